@@ -1,0 +1,71 @@
+"""Shared plumbing of the three forms: canonical construction with exact rescaling, caching."""
+
+from __future__ import annotations
+
+import warnings
+from typing import Any, Hashable
+
+import numpy as np
+
+from spinward.core.canonical import CanonicalProblem, Sense, is_sparse
+from spinward.core.errors import InputWarning
+from spinward.core.model import ProblemForm
+
+from .validate import check_total, power_of_two_scale
+
+
+def build_canonical(P: Any, linear: np.ndarray, constant: float, *, sign: float, shift: float,
+                    labels: tuple[Hashable, ...], form: str, sense: Sense) -> CanonicalProblem:
+    """Canonical problem for ``objective = sign · (½σᵀPσ + linearᵀσ + constant) + shift``.
+
+    P is symmetric with zero diagonal.  All coefficients are divided by one exact
+    power of two when their magnitudes are extreme; ``scale`` carries it back.
+    """
+    big = _max_abs(P)
+    lin_big = float(np.abs(linear).max()) if linear.size else 0.0
+    check_total(_mass(P) + float(np.abs(linear).sum()) + abs(constant) + abs(shift), f"the {form} coefficients")
+    t = power_of_two_scale(big, lin_big, constant)
+    if t != 1.0:
+        P = P / t
+        linear = linear / t
+        constant = constant / t
+    return CanonicalProblem(K=P, b=np.asarray(linear, dtype=np.float64), k0=float(constant), labels=labels,
+                            scale=sign * t, shift=float(shift), sense=sense, form=form,
+                            meta={"rescaled_by": t} if t != 1.0 else {})
+
+
+def _max_abs(P: Any) -> float:
+    if is_sparse(P):
+        return float(abs(P).max()) if P.nnz else 0.0
+    return float(np.abs(P).max()) if P.size else 0.0
+
+
+def _mass(P: Any) -> float:
+    if is_sparse(P):
+        return float(abs(P).sum())
+    return float(np.abs(P).sum())
+
+
+class CachedForm(ProblemForm):
+    """A form that builds its canonical problem once and keeps repair notes."""
+
+    def __init__(self) -> None:
+        self._canonical: CanonicalProblem | None = None
+        self.notes: list[str] = []
+
+    def note(self, message: str) -> None:
+        """Record a documented repair of the input, and warn about it."""
+        self.notes.append(message)
+        warnings.warn(message, InputWarning, stacklevel=4)
+
+    def canonical(self) -> CanonicalProblem:
+        if self._canonical is None:
+            self._canonical = self._build()
+        return self._canonical
+
+    def _build(self) -> CanonicalProblem:  # pragma: no cover - abstract
+        raise NotImplementedError
+
+    def __repr__(self) -> str:
+        c = self.canonical()
+        return f"{type(self).__name__}(n={c.n}, couplings={c.n_couplings()})"

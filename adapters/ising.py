@@ -1,0 +1,125 @@
+"""Ising: minimise E(s) = −Σ_{i<j} J_ij s_i s_j − Σ_i h_i s_i + offset over s ∈ {−1, +1}ⁿ.
+
+Physics sign: J_ij > 0 is ferromagnetic.  A matrix J must be symmetric (pair
+coefficient J_ij = J_ji) or upper-triangular (pair coefficient J_ij, i < j);
+any other asymmetric matrix is an error unless ``symmetrize=True``, which uses
+(J + Jᵀ)/2 and warns.  A dict J {(i, j): v} adds v to the pair {i, j}.  A
+non-zero diagonal (s_i² = 1, a constant) is dropped with a warning.
+"""
+
+from __future__ import annotations
+
+from typing import Any, Hashable, Iterable, Mapping
+
+import numpy as np
+
+from spinward.core.canonical import CanonicalProblem, is_sparse
+from spinward.core.errors import InputError
+
+from ._base import CachedForm, build_canonical
+from .terms import dict_to_matrix
+from .validate import as_real_matrix, as_vector, check_number, first_appearance, labels_for
+
+SYMMETRY_RTOL = 1e-12
+
+
+class Ising(CachedForm):
+    """Minimise −Σ_{i<j} J_ij s_i s_j − Σ h_i s_i + offset; values come back as ±1."""
+
+    form = "ising"
+    sense = "min"
+    domain = (1, -1)
+
+    def __init__(self, J: Any, h: Any = None, *, offset: float = 0.0, labels: Iterable[Hashable] | None = None,
+                 symmetrize: bool = False) -> None:
+        super().__init__()
+        self.offset = check_number(offset, "offset")
+        if isinstance(J, Mapping) or (J is None and isinstance(h, Mapping)):
+            self._init_dicts(dict(J or {}), h, labels)
+        else:
+            self._init_matrix(J, h, labels, symmetrize)
+
+    def _init_dicts(self, J: dict[Any, Any], h: Any, labels: Iterable[Hashable] | None) -> None:
+        if labels is not None:
+            raise InputError("labels cannot be given with a dict J: the dict's keys are the labels")
+        h_dict = dict(h or {}) if not isinstance(h, (np.ndarray, list, tuple)) else None
+        if h_dict is None:
+            raise InputError("with a dict J, give h as a dict {label: value} too")
+        for key in J:
+            if not isinstance(key, tuple) or len(key) != 2:
+                raise InputError(f"J dict keys must be pairs (i, j), got {key!r}")
+        loops = [k for k in J if k[0] == k[1]]
+        if loops:
+            self.note(f"dropped {len(loops)} self-coupling(s) J[(i, i)] such as {loops[0]!r}: s_i² = 1 is a constant")
+        self._terms = {k: v for k, v in J.items() if k[0] != k[1]}
+        self._fields = {k: check_number(v, f"h[{k!r}]") for k, v in h_dict.items()}
+        self._labels = tuple(first_appearance([*self._fields, *(v for key in self._terms for v in key)]))
+        M = dict_to_matrix(self._terms, self._labels, "J")
+        self.pairs = M + M.T
+        self.h = np.array([self._fields.get(label, 0.0) for label in self._labels])
+
+    def _init_matrix(self, J: Any, h: Any, labels: Iterable[Hashable] | None, symmetrize: bool) -> None:
+        self._terms = None
+        M = as_real_matrix(J, "J")
+        n = M.shape[0]
+        M = self._drop_diagonal(M)
+        self._raw = M
+        self.pairs = self._pair_matrix(M, symmetrize)
+        self.h = np.zeros(n) if h is None else as_vector(h, n, "h")
+        self._labels = labels_for(n, labels, "Ising")
+
+    def _drop_diagonal(self, M: Any) -> Any:
+        diag = M.diagonal()
+        if np.any(diag != 0):
+            self.note(f"dropped {int(np.count_nonzero(diag))} non-zero diagonal entries of J: s_i² = 1 is a constant")
+            if is_sparse(M):
+                import scipy.sparse as sp
+
+                M = sp.csr_array(M - sp.diags_array(diag))
+                M.eliminate_zeros()
+            else:
+                M = np.array(M, dtype=np.float64)
+                np.fill_diagonal(M, 0.0)
+        return M
+
+    def _pair_matrix(self, M: Any, symmetrize: bool) -> Any:
+        """Symmetric pair-coefficient matrix P (P_ij = coefficient of s_i s_j, i ≠ j)."""
+        self._triangular = _tril_nnz(M) == 0
+        if self._triangular:
+            return M + M.T  # upper-triangular: pair coefficient is J_ij
+        asym = _max_abs(M - M.T)
+        if asym <= SYMMETRY_RTOL * max(_max_abs(M), 1e-300):
+            return (M + M.T) * 0.5
+        if not symmetrize:
+            raise InputError(f"J is neither symmetric nor upper-triangular (max |J_ij − J_ji| = {asym:.3g}); "
+                             f"pass symmetrize=True to use (J + Jᵀ)/2")
+        self.note(f"J was asymmetric (max |J_ij − J_ji| = {asym:.3g}); used (J + Jᵀ)/2 as requested")
+        return (M + M.T) * 0.5
+
+    def _build(self) -> CanonicalProblem:
+        return build_canonical(self.pairs, self.h.copy(), 0.0, sign=-1.0, shift=self.offset,
+                               labels=self._labels, form="ising", sense="min")
+
+    def evaluate(self, values: np.ndarray) -> float:
+        """E(s) from the caller's terms (dicts summed directly, matrices as pair sums)."""
+        s = np.asarray(values, dtype=np.float64)
+        if self._terms is not None:
+            index = {label: k for k, label in enumerate(self._labels)}
+            total = -sum(float(v) * s[index[i]] * s[index[j]] for (i, j), v in self._terms.items())
+            total -= sum(v * s[index[k]] for k, v in self._fields.items())
+            return float(total) + self.offset
+        weight = 1.0 if self._triangular else 0.5  # sᵀJs counts each pair once or twice
+        return float(-weight * s @ (self._raw @ s) - self.h @ s) + self.offset
+
+
+def _tril_nnz(M: Any) -> int:
+    if is_sparse(M):
+        coo = M.tocoo()
+        return int(np.count_nonzero(coo.data[coo.row > coo.col]))
+    return int(np.count_nonzero(np.tril(M, -1)))
+
+
+def _max_abs(M: Any) -> float:
+    if is_sparse(M):
+        return float(abs(M).max()) if M.nnz else 0.0
+    return float(np.abs(M).max()) if M.size else 0.0

@@ -1,0 +1,176 @@
+"""Input validation shared by the adapters: shapes, dtypes, finiteness, magnitudes, memory.
+
+Every failure is an :class:`~spinward.core.errors.InputError` whose message
+names the defect and the fix.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from typing import Any, Hashable, Iterable, Sequence
+
+import numpy as np
+
+from spinward.core.canonical import is_sparse
+from spinward.core.errors import InputError, ResourceError
+
+#: largest integer magnitude a float64 holds exactly
+EXACT_INT = 2**53
+#: couplings beyond these magnitudes are rescaled by an exact power of two
+RESCALE_ABOVE, RESCALE_BELOW = 2.0**64, 2.0**-64
+
+
+def as_real_matrix(data: Any, name: str) -> Any:
+    """A square real 2-D ndarray or CSR matrix; rejects ragged, complex, object, NaN/inf."""
+    if is_sparse(data):
+        import scipy.sparse as sp
+
+        m = sp.csr_array(data)
+        _check_dtype(m.dtype, name)
+        _check_square(m.shape, name)
+        m = sp.csr_array(m, dtype=np.float64) if m.dtype != np.float64 else m.copy()
+        m.sum_duplicates()
+        _check_finite_sparse(m, name)
+        return m
+    arr = _to_ndarray(data, name)
+    _check_square(arr.shape, name)
+    _check_finite_dense(arr, name)
+    return arr
+
+
+def _to_ndarray(data: Any, name: str) -> np.ndarray:
+    if isinstance(data, np.ndarray):
+        arr = data
+    else:
+        try:
+            arr = np.asarray(data)
+        except (ValueError, TypeError) as exc:
+            raise InputError(f"{name} must be a rectangular array of numbers; it looks ragged ({exc})") from None
+    _check_dtype(arr.dtype, name)
+    if arr.dtype.kind in "iu":
+        big = int(np.abs(arr).max()) if arr.size else 0
+        if big > EXACT_INT:
+            raise InputError(f"{name} holds integers up to {big}, beyond 2**53 where float64 is no longer exact; "
+                             f"divide by a common factor or pass floats if rounding is acceptable")
+    if arr.dtype not in (np.float32, np.float64):
+        arr = arr.astype(np.float64)
+    return arr
+
+
+def _check_dtype(dtype: np.dtype, name: str) -> None:
+    if dtype.kind == "O":
+        raise InputError(f"{name} has object dtype (mixed or ragged entries); pass a numeric array")
+    if dtype.kind == "c":
+        raise InputError(f"{name} is complex; couplings must be real numbers")
+    if dtype.kind not in "biuf":
+        raise InputError(f"{name} must be numeric, got dtype {dtype}")
+
+
+def _check_square(shape: Sequence[int], name: str) -> None:
+    if len(shape) != 2 or shape[0] != shape[1]:
+        raise InputError(f"{name} must be square, got shape {tuple(shape)}")
+
+
+def _check_finite_dense(arr: np.ndarray, name: str) -> None:
+    bad = ~np.isfinite(arr)
+    if bad.any():
+        i, j = (int(v) for v in np.argwhere(bad)[0])
+        raise InputError(f"{name}[{i}, {j}] is {float(arr[i, j])}; every entry must be finite")
+
+
+def _check_finite_sparse(m: Any, name: str) -> None:
+    bad = ~np.isfinite(m.data)
+    if bad.any():
+        coo = m.tocoo()
+        k = int(np.flatnonzero(~np.isfinite(coo.data))[0])
+        raise InputError(f"{name}[{int(coo.row[k])}, {int(coo.col[k])}] is {float(coo.data[k])}; every entry must be finite")
+
+
+def check_number(value: Any, what: str) -> float:
+    """A finite real scalar (bools and complex refused)."""
+    if isinstance(value, (bool, np.bool_)) or not isinstance(value, (int, float, np.integer, np.floating)):
+        raise InputError(f"{what} must be a real number, got {value!r}")
+    if isinstance(value, (int, np.integer)) and abs(int(value)) > EXACT_INT:
+        raise InputError(f"{what} = {value} is beyond 2**53, where float64 is no longer exact")
+    out = float(value)
+    if not math.isfinite(out):
+        raise InputError(f"{what} is {value!r}; it must be finite")
+    return out
+
+
+def as_vector(data: Any, n: int, name: str) -> np.ndarray:
+    """A length-n finite float64 vector."""
+    arr = _to_ndarray(data, name).astype(np.float64, copy=False)
+    if arr.shape != (n,):
+        raise InputError(f"{name} must have shape ({n},), got {arr.shape}")
+    bad = ~np.isfinite(arr)
+    if bad.any():
+        k = int(np.flatnonzero(bad)[0])
+        raise InputError(f"{name}[{k}] is {float(arr[k])}; every entry must be finite")
+    return arr
+
+
+def power_of_two_scale(*magnitudes: float) -> float:
+    """An exact power of two that brings the largest magnitude near 1, or 1.0 when not needed.
+
+    Dividing by a power of two is exact in binary floating point, so huge or tiny
+    inputs are rescaled without changing which state is optimal.
+    """
+    big = max((abs(m) for m in magnitudes if m), default=0.0)
+    if big == 0.0 or RESCALE_BELOW <= big <= RESCALE_ABOVE:
+        return 1.0
+    return math.ldexp(1.0, math.frexp(big)[1])
+
+
+def check_total(total: float, what: str) -> None:
+    if not math.isfinite(total) or total > 1e300:
+        raise InputError(f"{what} sums to about {total:.3g}, beyond float64 range for objective values; "
+                         f"divide the coefficients by a common factor")
+
+
+def labels_for(n: int, labels: Iterable[Hashable] | None, name: str) -> tuple[Hashable, ...]:
+    if labels is None:
+        return tuple(range(n))
+    out = tuple(labels)
+    if len(out) != n:
+        raise InputError(f"{name}: {len(out)} labels for {n} variables")
+    try:
+        if len(set(out)) != n:
+            raise InputError(f"{name}: labels must be distinct")
+    except TypeError:
+        raise InputError(f"{name}: labels must be hashable") from None
+    return out
+
+
+def available_memory() -> int:
+    """Bytes of memory available now (MemAvailable), or a large number if unknown."""
+    try:
+        with open("/proc/meminfo", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("MemAvailable:"):
+                    return int(line.split()[1]) * 1024
+    except OSError:
+        pass
+    return 1 << 62
+
+
+def check_dense_memory(n: int, copies: int = 2, itemsize: int = 8, what: str = "the dense coupling matrix") -> None:
+    """Refuse before allocating when n×n dense storage would not fit in memory."""
+    need = copies * n * n * itemsize
+    limit = int(os.environ.get("SPINWARD_MEMORY_LIMIT", 0)) or int(0.8 * available_memory())
+    if need > limit:
+        raise ResourceError(f"{what} for n = {n} needs about {need / 2**30:.1f} GiB, more than the "
+                            f"{limit / 2**30:.1f} GiB available; pass a scipy.sparse matrix for sparse couplings, "
+                            f"or a float32 numpy memmap with method='descent' for dense ones")
+
+
+def first_appearance(keys: Iterable[Hashable]) -> list[Hashable]:
+    """Distinct keys in first-appearance order (works for mixed, unorderable label types)."""
+    seen: dict[Hashable, None] = {}
+    for k in keys:
+        try:
+            seen.setdefault(k, None)
+        except TypeError:
+            raise InputError(f"variable label {k!r} is not hashable") from None
+    return list(seen)

@@ -1,0 +1,156 @@
+"""The canonical problem every adapter produces and every solver consumes.
+
+Convention (shared by all solvers): maximise
+
+    C(σ) = ½ σᵀKσ + bᵀσ + k₀,   σ ∈ {−1, +1}ⁿ,
+
+with K symmetric and zero on the diagonal.  The caller's objective is the exact
+affine image ``objective = scale · C + shift`` (``scale ≠ 0``); ``sense`` is the
+caller's sense ("min" or "max").  ``labels[i]`` is the caller's name of spin i.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any, Hashable, Literal, Sequence
+
+import numpy as np
+
+from .errors import InputError
+
+Sense = Literal["min", "max"]
+
+
+def is_sparse(K: Any) -> bool:
+    """True for scipy.sparse arrays and matrices, without importing scipy."""
+    return hasattr(K, "tocsr") and hasattr(K, "nnz")
+
+
+def is_operator(K: Any) -> bool:
+    """True for a scipy LinearOperator (matrix-free couplings)."""
+    return hasattr(K, "matvec") and not isinstance(K, np.ndarray) and not is_sparse(K)
+
+
+@dataclass(frozen=True, eq=False)
+class CanonicalProblem:
+    """Maximise ½σᵀKσ + bᵀσ + k₀ over σ ∈ {±1}ⁿ; see the module docstring.
+
+    K is a dense ndarray (float32 or float64, a memmap is fine), a scipy.sparse
+    CSR matrix, or a scipy LinearOperator (matrix-free; only operator-capable
+    solvers accept it).  It must be symmetric with a zero diagonal.
+    """
+
+    K: Any
+    b: np.ndarray
+    k0: float = 0.0
+    labels: tuple[Hashable, ...] = ()
+    scale: float = 1.0
+    shift: float = 0.0
+    sense: Sense = "max"
+    form: str = "canonical"
+    meta: dict[str, Any] = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        n = self.b.shape[0] if self.b.ndim == 1 else -1
+        shape = getattr(self.K, "shape", None)
+        if shape is None or len(shape) != 2 or shape[0] != shape[1] or shape[0] != n:
+            raise InputError(f"canonical K must be square n×n with b of length n; got K {shape}, b {self.b.shape}")
+        if not self.labels:
+            object.__setattr__(self, "labels", tuple(range(n)))
+        if len(self.labels) != n:
+            raise InputError(f"{len(self.labels)} labels given for {n} variables")
+        if self.scale == 0 or not np.isfinite(self.scale):
+            raise InputError(f"scale must be finite and non-zero, got {self.scale!r}")
+
+    @property
+    def n(self) -> int:
+        return int(self.b.shape[0])
+
+    @property
+    def kind(self) -> Literal["dense", "sparse", "operator"]:
+        if is_sparse(self.K):
+            return "sparse"
+        return "operator" if is_operator(self.K) else "dense"
+
+    @property
+    def has_fields(self) -> bool:
+        return bool(np.any(self.b != 0))
+
+    def matvec(self, x: np.ndarray) -> np.ndarray:
+        """K @ x for any of the three kinds of K, in float64."""
+        if self.kind == "operator":
+            return np.asarray(self.K.matvec(x), dtype=np.float64)
+        return np.asarray(self.K @ x, dtype=np.float64)
+
+    def local_fields(self, sigma: np.ndarray) -> np.ndarray:
+        """h = Kσ + b; flipping spin i changes C by −2σᵢhᵢ."""
+        return self.matvec(np.asarray(sigma, dtype=np.float64)) + self.b
+
+    def value(self, sigma: np.ndarray) -> float:
+        """C(σ) in canonical units."""
+        s = np.asarray(sigma, dtype=np.float64)
+        return float(0.5 * s @ self.matvec(s) + self.b @ s + self.k0)
+
+    def to_objective(self, canonical_value: float) -> float:
+        """The caller's objective for a canonical value."""
+        return self.scale * canonical_value + self.shift
+
+    def bound_to_objective(self, canonical_upper: float) -> float:
+        """Map an upper bound on C to a bound in the caller's sense and units."""
+        return self.to_objective(canonical_upper)
+
+    def dense_K(self) -> np.ndarray:
+        """K as a dense float64 ndarray (allocates n² floats)."""
+        if self.kind == "sparse":
+            return np.asarray(self.K.toarray(), dtype=np.float64)
+        if self.kind == "operator":
+            return np.asarray(self.K.matmat(np.eye(self.n)), dtype=np.float64)
+        return np.asarray(self.K, dtype=np.float64)
+
+    def csr_K(self) -> Any:
+        """K as a scipy.sparse CSR array of float64 (imports scipy lazily)."""
+        import scipy.sparse as sp
+
+        if self.kind == "sparse":
+            return sp.csr_array(self.K, dtype=np.float64)
+        return sp.csr_array(self.dense_K())
+
+    def n_couplings(self) -> int:
+        """Number of non-zero pairs (i < j)."""
+        if self.kind == "sparse":
+            return int(self.K.count_nonzero() // 2)
+        if self.kind == "operator":
+            return self.n * (self.n - 1) // 2
+        return int(np.count_nonzero(self.K) // 2)
+
+    def with_gauge_spin(self) -> "CanonicalProblem":
+        """An equivalent field-free problem on n+1 spins (extra spin last, meant to be +1).
+
+        C'(σ, σ₀) = ½σᵀKσ + σ₀ bᵀσ + k₀ equals C(σ₀σ); undo with :func:`drop_gauge_spin`.
+        """
+        n = self.n
+        if self.kind == "sparse":
+            import scipy.sparse as sp
+
+            col = sp.csr_array(self.b.reshape(-1, 1))
+            K2 = sp.block_array([[self.K, col], [col.T, None]], format="csr")
+        else:
+            K2 = np.zeros((n + 1, n + 1), dtype=np.float64)
+            K2[:n, :n] = self.dense_K()
+            K2[:n, n] = self.b
+            K2[n, :n] = self.b
+        return CanonicalProblem(K2, np.zeros(n + 1), self.k0, tuple(range(n + 1)), form="gauge")
+
+
+def drop_gauge_spin(sigma: np.ndarray) -> np.ndarray:
+    """Remove the gauge spin (last) and flip all spins if it ended at −1."""
+    s = np.asarray(sigma, dtype=np.int8)
+    return (s[:-1] * s[-1]).astype(np.int8)
+
+
+def spins(values: Sequence[int] | np.ndarray) -> np.ndarray:
+    """Validate and return a ±1 int8 vector."""
+    s = np.asarray(values)
+    if s.size and not np.all(np.abs(s) == 1):
+        raise InputError("spin vector must hold only −1 and +1")
+    return s.astype(np.int8)

@@ -1,0 +1,215 @@
+"""The core's front door: run one solver on one problem form and build the result.
+
+The face (``spinward.solve``) turns the caller's object into a
+:class:`~spinward.core.model.ProblemForm` and hands it here with a registry.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+import warnings
+from typing import Any, Callable
+
+import numpy as np
+
+from .canonical import CanonicalProblem, drop_gauge_spin
+from .context import SolveContext, interrupt_guard, make_seed
+from .errors import InputError, OptionWarning, SolverUnsuitableError, SpinwardError
+from .model import ProblemForm
+from .registry import Bound, Registry, Solution, SolverSpec, callable_spec
+from .result import Result, relative_gap
+
+#: options every solver accepts, handled by the front door itself
+COMMON_OPTIONS = {"bound": True, "bound_share": 0.1, "explain": False}
+#: tolerance when comparing the caller's objective with the canonical one (relative to the coupling mass)
+CONSISTENCY_RTOL = 1e-9
+
+
+def check_time_limit(time_limit: Any) -> float | None:
+    if time_limit is None:
+        return None
+    if isinstance(time_limit, bool) or not isinstance(time_limit, (int, float)) or not math.isfinite(time_limit) or time_limit <= 0:
+        raise InputError(f"time_limit must be a positive number of seconds or None, got {time_limit!r}")
+    return float(time_limit)
+
+
+def pick_spec(method: str | Callable[..., Any] | SolverSpec, problem: CanonicalProblem,
+              registry: Registry, chooser: Callable[[CanonicalProblem, Registry], SolverSpec] | None) -> SolverSpec:
+    """Resolve ``method`` to a spec: a spec, a callable, a registered name, or "auto"."""
+    if isinstance(method, SolverSpec):
+        return method
+    if callable(method):
+        return callable_spec(method)
+    if not isinstance(method, str):
+        raise InputError(f"method must be a solver name or a callable, got {method!r}")
+    if method == "auto":
+        return (chooser or choose_by_fit)(problem, registry)
+    spec = registry.get(method)
+    verdict = spec.can_run(problem)
+    if verdict is not True:
+        raise SolverUnsuitableError(f"method {method!r} cannot run on this problem: {verdict}")
+    return spec
+
+
+def choose_by_fit(problem: CanonicalProblem, registry: Registry) -> SolverSpec:
+    """The runnable solver with the highest fit score."""
+    ranked = registry.rank(problem)
+    if not ranked:
+        reasons = "; ".join(f"{k}: {v}" for k, v in registry.verdicts(problem).items())
+        raise SolverUnsuitableError(f"no registered solver can run on this problem ({reasons})")
+    return ranked[0][1]
+
+
+def split_options(spec: SolverSpec, options: dict[str, Any]) -> tuple[dict[str, Any], dict[str, Any]]:
+    """Separate the solver's options from the common ones, warning about unknown names."""
+    common = {k: options.get(k, v) for k, v in COMMON_OPTIONS.items()}
+    accepted = set(spec.options)
+    own = {k: v for k, v in options.items() if k not in COMMON_OPTIONS}
+    if "*" not in accepted:
+        unknown = sorted(set(own) - accepted)
+        if unknown:
+            warnings.warn(f"solver {spec.name!r} ignores unknown option(s) {', '.join(map(repr, unknown))}; "
+                          f"it accepts: {', '.join(sorted(accepted)) or 'none'}", OptionWarning, stacklevel=4)
+        own = {k: v for k, v in own.items() if k in accepted}
+    return {**{k: v for k, v in spec.options.items() if k != "*"}, **own}, common
+
+
+def run_spec(spec: SolverSpec, problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    """Run a spec, adding a gauge spin when it cannot take fields."""
+    gauge = problem.has_fields and not spec.capabilities.fields
+    target = problem.with_gauge_spin() if gauge else problem
+    with interrupt_guard(ctx):
+        try:
+            sol = spec.run(target, ctx)
+        except KeyboardInterrupt:
+            if ctx.best_sigma is None:
+                raise
+            ctx.interrupted = True
+            sol = Solution(sigma=ctx.best_sigma)
+    sigma = _checked_spins(sol.sigma, target.n, spec.name)
+    if ctx.best_sigma is not None and len(ctx.best_sigma) == target.n and ctx.best_value > target.value(sigma):
+        sigma = ctx.best_sigma
+    if gauge:
+        sigma = drop_gauge_spin(sigma)
+    return Solution(sigma=sigma, exact=sol.exact and not ctx.interrupted, status=sol.status,
+                    bound=sol.bound, info=dict(sol.info))
+
+
+def _checked_spins(sigma: Any, n: int, name: str) -> np.ndarray:
+    s = np.asarray(sigma)
+    if s.shape != (n,) or (n and not np.all(np.abs(s) == 1)):
+        raise SpinwardError(f"solver {name!r} returned {s.shape} values; expected {n} spins of ±1")
+    return s.astype(np.int8)
+
+
+def derive_status(sol: Solution, ctx: SolveContext) -> str:
+    if ctx.interrupted:
+        return "interrupted"
+    if sol.status in ("optimal", "feasible", "time-limit", "interrupted"):
+        return sol.status
+    if sol.exact:
+        return "optimal"
+    return "time-limit" if ctx.time_limit is not None and ctx.expired() else "feasible"
+
+
+def attach_bound(problem: CanonicalProblem, registry: Registry, ctx: SolveContext, sol: Solution,
+                 canonical_value: float, share: float) -> tuple[Bound | None, list[dict[str, Any]]]:
+    """The tightest bound on the canonical maximum from the solver and the registered providers."""
+    found: list[Bound] = []
+    if sol.exact:
+        found.append(Bound(canonical_value, True, "solver (proved optimal)"))
+    elif sol.bound is not None:
+        found.append(Bound(float(sol.bound), True, "solver"))
+    log: list[dict[str, Any]] = []
+    if not sol.exact:
+        budget = None if ctx.time_limit is None else max(share * ctx.time_limit, 0.05)
+        for provider in registry.bounds():
+            if provider.applies(problem) is not True:
+                continue
+            sub = SolveContext(rng=np.random.default_rng(0), time_limit=budget)
+            t0 = time.perf_counter()
+            try:
+                b = provider.compute(problem, sub)
+            except SpinwardError as exc:
+                log.append({"provider": provider.name, "error": str(exc)})
+                continue
+            log.append({"provider": provider.name, "seconds": time.perf_counter() - t0,
+                        "value": None if b is None else b.value, "certified": None if b is None else b.certified})
+            if b is not None and math.isfinite(b.value):
+                found.append(b)
+    if not found:
+        return None, log
+    certified = [b for b in found if b.certified]
+    pool = certified or found
+    return min(pool, key=lambda b: b.value), log
+
+
+def solve_form(form: ProblemForm, *, registry: Registry, method: Any = "auto", time_limit: float | None = None,
+               seed: int | np.random.Generator | None = None,
+               chooser: Callable[[CanonicalProblem, Registry], SolverSpec] | None = None,
+               **options: Any) -> Result:
+    """Solve ``form`` with ``method``; see :func:`spinward.solve` for the public contract."""
+    limit = check_time_limit(time_limit)
+    seed_value, rng = make_seed(seed)
+    t0 = time.perf_counter()
+    problem = form.canonical()
+    notes = list(getattr(form, "notes", ()))
+    if problem.n == 0:
+        return _empty_result(form, seed_value, notes, time.perf_counter() - t0)
+    spec = pick_spec(method, problem, registry, chooser)
+    own, common = split_options(spec, options)
+    ctx = SolveContext(rng=rng, seed=seed_value, time_limit=limit, options=own, start=t0)
+    sol = run_spec(spec, problem, ctx)
+    return build_result(form, problem, registry, spec, sol, ctx, common, notes)
+
+
+def build_result(form: ProblemForm, problem: CanonicalProblem, registry: Registry, spec: SolverSpec,
+                 sol: Solution, ctx: SolveContext, common: dict[str, Any], notes: list[str]) -> Result:
+    """Decode, recompute the caller's objective, attach bound and gap."""
+    values = form.decode(sol.sigma)
+    objective = float(form.evaluate(values))
+    canonical_value = problem.value(sol.sigma)
+    _check_consistency(problem, objective, canonical_value, spec.name)
+    info = dict(sol.info)
+    bound_value, kind = None, None
+    if common["bound"] and ctx.interrupted is False:
+        bound, log = attach_bound(problem, registry, ctx, sol, canonical_value, float(common["bound_share"]))
+        if log:
+            info["bounds"] = log
+        if bound is not None:
+            bound_value = problem.bound_to_objective(max(bound.value, canonical_value))
+            kind = "certified" if bound.certified else "estimated"
+            info["bound_method"] = bound.method
+    gap = relative_gap(bound_value, objective)
+    exact = bool(sol.exact) or (kind == "certified" and gap is not None and gap <= 1e-12)
+    if ctx.trace:
+        info.setdefault("trace", [(t, problem.to_objective(v)) for t, v in ctx.trace])
+    return Result(form=form.form, assignment=dict(zip(problem.labels, values.tolist())),
+                  array=tuple(values.tolist()), objective=objective, sense=form.sense, bound=bound_value,
+                  bound_kind=kind, gap=gap, exact=exact, solver=spec.name, status=derive_status(sol, ctx),
+                  wall_time=ctx.elapsed(), seed=ctx.seed, warnings=tuple(notes + ctx.warnings), info=info)
+
+
+def _check_consistency(problem: CanonicalProblem, objective: float, canonical_value: float, name: str) -> None:
+    """The caller's objective must equal the canonical image; a mismatch is a bug, never silent."""
+    via_canonical = problem.to_objective(canonical_value)
+    mass = abs(problem.scale) * (abs(problem.k0) + float(np.abs(problem.b).sum()) + _coupling_mass(problem)) + abs(problem.shift)
+    if abs(objective - via_canonical) > CONSISTENCY_RTOL * max(mass, 1.0) + 1e-12:
+        raise SpinwardError(f"internal error after solver {name!r}: the objective recomputed from the input "
+                            f"({objective!r}) differs from the canonical value ({via_canonical!r}); please report it")
+
+
+def _coupling_mass(problem: CanonicalProblem) -> float:
+    if problem.kind == "sparse":
+        return float(abs(problem.K).sum()) / 2
+    if problem.kind == "operator":
+        return 0.0 if problem.n == 0 else math.inf
+    return float(np.abs(problem.K).sum()) / 2
+
+
+def _empty_result(form: ProblemForm, seed: int | None, notes: list[str], elapsed: float) -> Result:
+    objective = float(form.evaluate(np.zeros(0, dtype=np.int8)))
+    return Result(form=form.form, assignment={}, array=(), objective=objective, sense=form.sense,
+                  bound=objective, bound_kind="certified", gap=0.0, exact=True, solver="empty",
+                  status="optimal", wall_time=elapsed, seed=seed, warnings=tuple(notes), info={})

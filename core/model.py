@@ -1,0 +1,52 @@
+"""The contract between a caller's problem form and the core.
+
+A form (QUBO, Ising, MaxCut, or a third party's) turns itself into a
+:class:`~spinward.core.canonical.CanonicalProblem`, decodes canonical spins into
+the caller's own domain, and evaluates its objective directly from the caller's
+own input, never through the canonical form.
+"""
+
+from __future__ import annotations
+
+from abc import ABC, abstractmethod
+from typing import Any, ClassVar, Hashable
+
+import numpy as np
+
+from .canonical import CanonicalProblem, Sense
+
+
+class ProblemForm(ABC):
+    """A problem as the caller holds it; subclasses live in ``spinward.adapters``."""
+
+    form: ClassVar[str] = "form"
+    sense: ClassVar[Sense] = "min"
+    #: the values a variable takes in the caller's domain, in the order (σ=+1, σ=−1)
+    domain: ClassVar[tuple[int, int]] = (1, -1)
+
+    @abstractmethod
+    def canonical(self) -> CanonicalProblem:
+        """The canonical problem with its affine map and labels (cached by implementations)."""
+
+    @abstractmethod
+    def evaluate(self, values: np.ndarray) -> float:
+        """The caller's objective for ``values`` (caller domain, canonical index order)."""
+
+    @property
+    def labels(self) -> tuple[Hashable, ...]:
+        return self.canonical().labels
+
+    def decode(self, sigma: np.ndarray) -> np.ndarray:
+        """Canonical spins → caller-domain values (int8), in canonical index order."""
+        up, down = self.domain
+        return np.where(np.asarray(sigma) > 0, up, down).astype(np.int8)
+
+    def encode(self, values: np.ndarray) -> np.ndarray:
+        """Caller-domain values → canonical spins (int8)."""
+        up, _ = self.domain
+        return np.where(np.asarray(values) == up, 1, -1).astype(np.int8)
+
+    def describe(self) -> dict[str, Any]:
+        """A short summary for messages and reports."""
+        c = self.canonical()
+        return {"form": self.form, "sense": self.sense, "n": c.n}

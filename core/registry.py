@@ -1,0 +1,229 @@
+"""Solver and bound specs, and the pluggy-backed registry that collects them.
+
+Core knows no solver by name: the face hands the registry a list of built-in
+plugin modules, and entry points add third-party ones.
+"""
+
+from __future__ import annotations
+
+import importlib
+import re
+import math
+import os
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import Any, Callable, Iterable, Mapping, Sequence
+
+import numpy as np
+import pluggy
+
+from .canonical import CanonicalProblem
+from .context import SolveContext
+from .errors import PluginError, UnknownMethodError
+from .hookspec import AUTOLOAD_ENV, ENTRY_POINT_GROUP, PROJECT, SolverHooks
+
+_NAME = re.compile(r"[A-Za-z][A-Za-z0-9_.\-]*")
+
+
+@dataclass(frozen=True)
+class Capabilities:
+    """What a solver declares about itself, once; dispatch reads only this and ``check``."""
+
+    exact: bool = False          # proves optimality when it finishes
+    fields: bool = True          # handles b ≠ 0 (else the core adds a gauge spin)
+    dense: bool = True           # accepts dense K
+    sparse: bool = True          # accepts sparse K efficiently
+    operator: bool = False       # accepts a matrix-free LinearOperator K
+    stochastic: bool = True      # result depends on the seed
+    max_n: int | None = None     # hard size limit
+    assumptions: tuple[str, ...] = ()  # plain-words conditions for its guarantees
+
+
+@dataclass(frozen=True)
+class Solution:
+    """What a solver returns: canonical spins and what it can prove about them.
+
+    ``bound`` is an upper bound on the canonical maximum, if the solver has one.
+    ``status`` may be left None: the core derives it from the clock and flags.
+    """
+
+    sigma: np.ndarray
+    exact: bool = False
+    status: str | None = None
+    bound: float | None = None
+    info: Mapping[str, Any] = field(default_factory=dict)
+
+
+RunFn = Callable[[CanonicalProblem, SolveContext], Solution]
+CheckFn = Callable[[CanonicalProblem], "bool | str"]
+FitFn = Callable[[Any], float]
+
+
+@dataclass(frozen=True)
+class SolverSpec:
+    """A registered solver: its name, entry point, capabilities and checks.
+
+    ``options`` maps each accepted option to its default; the front door warns
+    about any other option.  ``fit(problem_or_profile)`` scores how well the
+    solver suits a problem ("auto" takes the highest score among those that can run).
+    """
+
+    name: str
+    run: RunFn
+    capabilities: Capabilities = Capabilities()
+    summary: str = ""
+    options: Mapping[str, Any] = field(default_factory=dict)
+    check: CheckFn | None = None
+    fit: FitFn | None = None
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.name, str) or not _NAME.fullmatch(self.name):
+            raise PluginError(f"solver name must be an identifier-like string, got {self.name!r}")
+        if not callable(self.run):
+            raise PluginError(f"solver {self.name!r}: run must be callable, got {self.run!r}")
+        object.__setattr__(self, "options", MappingProxyType(dict(self.options)))
+
+    def can_run(self, problem: CanonicalProblem) -> "bool | str":
+        """True, or a reason in plain words why this solver cannot run on ``problem``."""
+        caps = self.capabilities
+        if caps.max_n is not None and problem.n > caps.max_n:
+            return f"n = {problem.n} exceeds its limit of {caps.max_n} variables"
+        if problem.kind == "operator" and not caps.operator:
+            return "it needs explicit couplings, not a LinearOperator"
+        if problem.kind == "dense" and not caps.dense:
+            return "it does not take dense couplings"
+        if self.check is not None:
+            verdict = self.check(problem)
+            if verdict is not True:
+                return str(verdict) if verdict else "its own check declined the problem"
+        return True
+
+    def score(self, problem: Any) -> float:
+        return float(self.fit(problem)) if self.fit is not None else 0.0
+
+
+@dataclass(frozen=True)
+class Bound:
+    """An upper bound on the canonical maximum; ``certified`` only when proved."""
+
+    value: float
+    certified: bool
+    method: str
+    info: Mapping[str, Any] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class BoundSpec:
+    """A bound provider: ``compute(problem, ctx) -> Bound | None``."""
+
+    name: str
+    compute: Callable[[CanonicalProblem, SolveContext], "Bound | None"]
+    summary: str = ""
+    check: CheckFn | None = None
+    priority: int = 0  # providers run in descending priority while time remains
+
+    def applies(self, problem: CanonicalProblem) -> "bool | str":
+        return True if self.check is None else self.check(problem)
+
+
+def callable_spec(fn: Callable[..., Any]) -> SolverSpec:
+    """Wrap a plain callable ``fn(problem, ctx) -> Solution | spins`` as an ad-hoc spec."""
+
+    def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+        out = fn(problem, ctx)
+        return out if isinstance(out, Solution) else Solution(sigma=np.asarray(out))
+
+    name = getattr(fn, "__name__", "callable").replace("<", "").replace(">", "") or "callable"
+    return SolverSpec(name=name, run=run, summary="caller-supplied callable",
+                      options={"*": None})
+
+
+class Registry:
+    """Collects solver and bound specs from plugins through pluggy."""
+
+    def __init__(self, builtin_modules: Sequence[str] = (), *, autoload: bool | None = None) -> None:
+        self._pm = pluggy.PluginManager(PROJECT)
+        self._pm.add_hookspecs(SolverHooks)
+        self._cache: dict[str, SolverSpec] | None = None
+        for module_name in builtin_modules:
+            self.register(importlib.import_module(module_name), name=module_name)
+        if autoload is None:
+            autoload = not os.environ.get(AUTOLOAD_ENV)
+        if autoload:
+            self._pm.load_setuptools_entrypoints(ENTRY_POINT_GROUP)
+
+    def register(self, plugin: object, name: str | None = None) -> None:
+        """Register a plugin object or module carrying ``@hookimpl`` functions."""
+        self._pm.register(plugin, name=name)
+        self._cache = None
+
+    def unregister(self, name: str) -> None:
+        self._pm.unregister(name=name)
+        self._cache = None
+
+    def add_solver(self, spec: SolverSpec, *, name: str | None = None) -> None:
+        """Register one spec programmatically (through the same hook)."""
+        self.register(_SinglePlugin(solvers=[spec]), name=name or f"solver:{spec.name}")
+
+    def add_bound(self, spec: BoundSpec) -> None:
+        self.register(_SinglePlugin(bounds=[spec]), name=f"bound:{spec.name}")
+
+    def solvers(self) -> Mapping[str, SolverSpec]:
+        """All solver specs by name, in registration order."""
+        if self._cache is None:
+            specs: dict[str, SolverSpec] = {}
+            for batch in reversed(self._pm.hook.spinward_solvers()):
+                for spec in batch or ():
+                    if not isinstance(spec, SolverSpec):
+                        raise PluginError(f"a plugin returned {spec!r}, expected a SolverSpec")
+                    if spec.name in specs:
+                        raise PluginError(f"two plugins register a solver named {spec.name!r}")
+                    specs[spec.name] = spec
+            self._cache = specs
+        return MappingProxyType(self._cache)
+
+    def bounds(self) -> list[BoundSpec]:
+        """All bound providers, highest priority first."""
+        found = [b for batch in self._pm.hook.spinward_bounds() for b in (batch or ())]
+        for b in found:
+            if not isinstance(b, BoundSpec):
+                raise PluginError(f"a plugin returned {b!r}, expected a BoundSpec")
+        return sorted(found, key=lambda b: (-b.priority, b.name))
+
+    def names(self) -> list[str]:
+        return list(self.solvers())
+
+    def get(self, name: str) -> SolverSpec:
+        try:
+            return self.solvers()[name]
+        except KeyError:
+            raise UnknownMethodError(
+                f"unknown method {name!r}; available: {', '.join(['auto', *sorted(self.names())])}"
+            ) from None
+
+    def verdicts(self, problem: CanonicalProblem) -> dict[str, "bool | str"]:
+        """Every solver's answer to ``can_run(problem)``."""
+        return {name: spec.can_run(problem) for name, spec in self.solvers().items()}
+
+    def rank(self, problem: CanonicalProblem, scored: Any = None) -> list[tuple[float, SolverSpec]]:
+        """Runnable solvers, best fit first (ties by name for determinism)."""
+        subject = problem if scored is None else scored
+        ok = [(spec.score(subject), spec) for spec in self.solvers().values() if spec.can_run(problem) is True]
+        ok = [(s, spec) for s, spec in ok if math.isfinite(s)]
+        return sorted(ok, key=lambda t: (-t[0], t[1].name))
+
+
+class _SinglePlugin:
+    """A tiny plugin object for programmatic registration."""
+
+    def __init__(self, solvers: Iterable[SolverSpec] = (), bounds: Iterable[BoundSpec] = ()) -> None:
+        self._solvers = list(solvers)
+        self._bounds = list(bounds)
+
+    @pluggy.HookimplMarker(PROJECT)
+    def spinward_solvers(self) -> list[SolverSpec]:
+        return self._solvers
+
+    @pluggy.HookimplMarker(PROJECT)
+    def spinward_bounds(self) -> list[BoundSpec]:
+        return self._bounds

@@ -1,0 +1,1 @@
+"""spinward.plugins: the built-in solver families, each registered through the public hook."""

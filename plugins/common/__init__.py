@@ -1,0 +1,1 @@
+"""Machinery shared by several solver plugins (local search kernels, helpers)."""

@@ -1,0 +1,52 @@
+"""Multi-start greedy single-flip local search (a fast, general heuristic).
+
+Canonical sense: maximise ½σᵀKσ + bᵀσ + k₀.  Each start is a uniform random
+state climbed to a 1-flip local optimum; starts repeat until ``restarts`` are
+done or the time limit passes, and the best state is returned.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from spinward.core import Capabilities, CanonicalProblem, Solution, SolveContext, SolverSpec, hookimpl
+
+from .common.flips import local_search, random_spins
+
+DEFAULT_RESTARTS = 16
+
+
+def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    """Random restarts until ``restarts`` (default 16; unlimited with a time limit) or the clock stops."""
+    restarts = ctx.option("restarts", None)
+    if restarts is None:
+        restarts = DEFAULT_RESTARTS if ctx.time_limit is None else 10**9
+    done = 0
+    while done < max(int(restarts), 1):
+        sigma, value = local_search(problem, random_spins(problem.n, ctx.rng))
+        ctx.offer(sigma, value)
+        done += 1
+        if ctx.should_stop():
+            break
+    assert ctx.best_sigma is not None
+    return Solution(sigma=ctx.best_sigma, info={"restarts": done})
+
+
+def fit(problem: CanonicalProblem) -> float:
+    """A modest, always-available fallback."""
+    return 1.0
+
+
+SPEC = SolverSpec(
+    name="local",
+    run=run,
+    capabilities=Capabilities(operator=False),
+    summary="multi-start greedy single-flip local search",
+    options={"restarts": None},
+    fit=fit,
+)
+
+
+@hookimpl
+def spinward_solvers() -> list[SolverSpec]:
+    return [SPEC]

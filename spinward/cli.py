@@ -1,0 +1,121 @@
+"""The ``spinward`` command line (argparse).  Heavy imports happen inside each command.
+
+Exit codes: 0 success, 2 bad input/file/option (one line on stderr, no traceback),
+130 interrupted before any state was found.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from typing import Any, Callable, Sequence
+
+from . import __version__
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse, but a usage error is one line on stderr and exit code 2."""
+
+    def error(self, message: str) -> None:  # type: ignore[override]
+        sys.stderr.write(f"spinward: error: {message} (see 'spinward --help')\n")
+        raise SystemExit(2)
+
+
+def _option_pair(text: str) -> tuple[str, Any]:
+    if "=" not in text:
+        raise argparse.ArgumentTypeError(f"option {text!r} must look like key=value")
+    key, raw = text.split("=", 1)
+    try:
+        return key, json.loads(raw)
+    except json.JSONDecodeError:
+        return key, raw
+
+
+def cmd_solve(args: argparse.Namespace) -> int:
+    import spinward
+
+    form = spinward.read_problem(args.file, form=args.form)
+    result = spinward.solve(form, method=args.method, time_limit=args.time_limit, seed=args.seed,
+                            **dict(args.option or []))
+    print(result.summary())
+    if args.output:
+        result.write_json(args.output)
+        print(f"result written to {args.output}")
+    if args.csv:
+        result.write_csv(args.csv)
+        print(f"assignment written to {args.csv}")
+    return 0
+
+
+def cmd_demo(args: argparse.Namespace) -> int:
+    from .demo import run_demo
+
+    print(run_demo(seed=args.seed))
+    return 0
+
+
+def cmd_solvers(args: argparse.Namespace) -> int:
+    from .api import default_registry
+
+    for name, spec in default_registry().solvers().items():
+        caps = spec.capabilities
+        kind = "exact" if caps.exact else "heuristic"
+        limit = f", n ≤ {caps.max_n}" if caps.max_n else ""
+        print(f"{name:12s} {kind}{limit}: {spec.summary}")
+    return 0
+
+
+COMMANDS: dict[str, tuple[Callable[[argparse.Namespace], int], str]] = {
+    "solve": (cmd_solve, "solve a problem file and print a summary"),
+    "demo": (cmd_demo, "solve a built-in example (a two-band radio frequency plan)"),
+    "solvers": (cmd_solvers, "list the registered solvers"),
+}
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = _Parser(prog="spinward", description="Solve, certify and benchmark QUBO, Ising and MaxCut problems.")
+    parser.add_argument("--version", action="version", version=f"spinward {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    for name, (_, help_text) in COMMANDS.items():
+        p = sub.add_parser(name, help=help_text, description=help_text)
+        if name == "solve":
+            p.add_argument("file", help="problem file: .mtx .json .graphml .npy .npz or an edge list")
+            p.add_argument("--method", default="auto", help="solver name or 'auto' (see 'spinward solvers')")
+            p.add_argument("--time-limit", type=float, default=None, help="wall-clock seconds")
+            p.add_argument("--seed", type=int, default=None, help="random seed (recorded in the result)")
+            p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None,
+                           help="how to read a bare matrix (.mtx/.npy/.npz); default qubo")
+            p.add_argument("--output", "-o", default=None, help="write the result as JSON here")
+            p.add_argument("--csv", default=None, help="write the assignment as CSV (label,value) here")
+            p.add_argument("--option", action="append", type=_option_pair, metavar="KEY=VALUE",
+                           help="solver option (value parsed as JSON when possible); repeatable")
+        if name == "demo":
+            p.add_argument("--seed", type=int, default=0)
+    return parser
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not args.command:
+        parser.print_help()
+        return 2
+    from .core.errors import SpinwardError
+
+    handler = COMMANDS[args.command][0]
+    try:
+        return handler(args)
+    except SpinwardError as exc:
+        sys.stderr.write(f"spinward: error: {exc}\n")
+        return 2
+    except OSError as exc:
+        sys.stderr.write(f"spinward: error: {exc.strerror or exc}: {exc.filename or ''}\n")
+        return 2
+    except KeyboardInterrupt:
+        sys.stderr.write("spinward: interrupted before any state was found\n")
+        return 130
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,84 @@
+"""The command line: solve, demo, version, errors as one line with exit code 2, Ctrl-C keeps the best state."""
+
+from __future__ import annotations
+
+import json
+import os
+import signal
+import subprocess
+import sys
+import time
+
+import networkx as nx
+import numpy as np
+import pytest
+
+import spinward
+from spinward.cli import main
+
+
+def test_solve_file_prints_summary_and_writes_json(tmp_path, capsys):
+    spinward.write_problem(spinward.MaxCut(nx.petersen_graph()), tmp_path / "p.json")
+    code = main(["solve", str(tmp_path / "p.json"), "--seed", "3", "-o", str(tmp_path / "r.json"),
+                 "--csv", str(tmp_path / "a.csv")])
+    out = capsys.readouterr().out
+    assert code == 0
+    assert "objective: 12" in out and "maximise" in out and "enumerate" in out and "optimal" in out
+    r = spinward.Result.from_json((tmp_path / "r.json").read_text())
+    assert r.objective == 12 and r.seed == 3  # Petersen graph: 12 (REFERENCES.md, from memory)
+    assert (tmp_path / "a.csv").read_text().startswith("label,value\n")
+
+
+def test_demo_runs(capsys):
+    assert main(["demo"]) == 0
+    out = capsys.readouterr().out
+    assert "Band A" in out and "Band B" in out and "proved optimal" in out
+
+
+@pytest.mark.parametrize("args, fragment", [
+    (["solve", "missing.mtx"], "no such file"),
+    (["solve", "{bad}", "--method", "local"], "malformed JSON"),
+    (["solve", "{good}", "--method", "nonesuch"], "unknown method 'nonesuch'"),
+    (["solve", "{good}", "--time-limit", "-1"], "time_limit must be a positive"),
+    (["solve"], "the following arguments are required"),
+    (["solve", "{good}", "--seed", "abc"], "invalid int value"),
+])
+def test_errors_are_one_line_exit_2(tmp_path, capsys, args, fragment):
+    (tmp_path / "bad.json").write_text("{nope")
+    spinward.write_problem(spinward.MaxCut(nx.path_graph(3)), tmp_path / "good.json")
+    args = [a.format(bad=tmp_path / "bad.json", good=tmp_path / "good.json") for a in args]
+    with pytest.raises(SystemExit) if args == ["solve"] or "abc" in args else _nullcontext():
+        code = main(args)
+        assert code == 2
+    err = capsys.readouterr().err
+    assert fragment in err and err.count("\n") == 1 and "Traceback" not in err
+
+
+class _nullcontext:
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        return False
+
+
+def test_version_and_module_entry():
+    out = subprocess.run([sys.executable, "-m", "spinward", "--version"], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == f"spinward {spinward.__version__}"
+
+
+@pytest.mark.skipif(sys.platform == "win32", reason="POSIX signals")
+def test_sigint_returns_best_state_and_writes_json(tmp_path):
+    g = nx.random_regular_graph(3, 400, seed=1)
+    spinward.write_problem(spinward.MaxCut(g), tmp_path / "g.txt")
+    proc = subprocess.Popen([sys.executable, "-m", "spinward", "solve", str(tmp_path / "g.txt"), "--method", "local",
+                             "--time-limit", "60", "-o", str(tmp_path / "r.json")],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    time.sleep(3.0)
+    proc.send_signal(signal.SIGINT)
+    out, err = proc.communicate(timeout=30)
+    assert proc.returncode == 0, err
+    assert "status: interrupted" in out
+    r = spinward.Result.from_json((tmp_path / "r.json").read_text())
+    assert r.status == "interrupted" and not r.exact
+    assert r.objective == nx.cut_size(g, [u for u, s in r.assignment.items() if s == 0])
