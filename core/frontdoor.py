@@ -113,6 +113,13 @@ def derive_status(sol: Solution, ctx: SolveContext) -> str:
     return "time-limit" if ctx.time_limit is not None and ctx.expired() else "feasible"
 
 
+def bound_budget(ctx: SolveContext, share: float) -> float:
+    """Seconds the bound providers may use: a share of the limit, or of the time spent so far."""
+    if ctx.time_limit is not None:
+        return max(share * ctx.time_limit, 0.05)
+    return max(1.0, 0.5 * ctx.elapsed())
+
+
 def attach_bound(problem: CanonicalProblem, registry: Registry, ctx: SolveContext, sol: Solution,
                  canonical_value: float, share: float) -> tuple[Bound | None, list[dict[str, Any]]]:
     """The tightest bound on the canonical maximum from the solver and the registered providers."""
@@ -123,26 +130,32 @@ def attach_bound(problem: CanonicalProblem, registry: Registry, ctx: SolveContex
         found.append(Bound(float(sol.bound), True, "solver"))
     log: list[dict[str, Any]] = []
     if not sol.exact:
-        budget = None if ctx.time_limit is None else max(share * ctx.time_limit, 0.05)
+        deadline = time.perf_counter() + bound_budget(ctx, share)
         for provider in registry.bounds():
-            if provider.applies(problem) is not True:
+            left = deadline - time.perf_counter()
+            if left <= 0 or provider.applies(problem) is not True:
                 continue
-            sub = SolveContext(rng=np.random.default_rng(0), time_limit=budget)
-            t0 = time.perf_counter()
-            try:
-                b = provider.compute(problem, sub)
-            except SpinwardError as exc:
-                log.append({"provider": provider.name, "error": str(exc)})
-                continue
-            log.append({"provider": provider.name, "seconds": time.perf_counter() - t0,
-                        "value": None if b is None else b.value, "certified": None if b is None else b.certified})
+            b = _run_provider(provider, problem, left, log)
             if b is not None and math.isfinite(b.value):
                 found.append(b)
     if not found:
         return None, log
     certified = [b for b in found if b.certified]
-    pool = certified or found
-    return min(pool, key=lambda b: b.value), log
+    return min(certified or found, key=lambda b: b.value), log
+
+
+def _run_provider(provider: Any, problem: CanonicalProblem, seconds: float, log: list[dict[str, Any]]) -> Bound | None:
+    sub = SolveContext(rng=np.random.default_rng(0), time_limit=seconds)
+    t0 = time.perf_counter()
+    try:
+        b = provider.compute(problem, sub)
+    except SpinwardError as exc:
+        log.append({"provider": provider.name, "error": str(exc)})
+        return None
+    log.append({"provider": provider.name, "seconds": time.perf_counter() - t0,
+                "value": None if b is None else problem.bound_to_objective(b.value),
+                "certified": None if b is None else b.certified})
+    return b
 
 
 def solve_form(form: ProblemForm, *, registry: Registry, method: Any = "auto", time_limit: float | None = None,
@@ -157,37 +170,63 @@ def solve_form(form: ProblemForm, *, registry: Registry, method: Any = "auto", t
     notes = list(getattr(form, "notes", ()))
     if problem.n == 0:
         return _empty_result(form, seed_value, notes, time.perf_counter() - t0)
+    ctx = SolveContext(rng=rng, seed=seed_value, time_limit=limit, start=t0)
+    if method == "auto" and chooser is None:
+        from .portfolio import solve_auto
+
+        common = {k: options.pop(k, v) for k, v in COMMON_OPTIONS.items()}
+        outcome = solve_auto(problem, registry, ctx, options, bound=bool(common["bound"]),
+                             bound_share=float(common["bound_share"]))
+        return build_result(form, problem, outcome.spec, outcome.solution, ctx, notes, outcome.bound,
+                            outcome.info(common["explain"]))
     spec = pick_spec(method, problem, registry, chooser)
     own, common = split_options(spec, options)
-    ctx = SolveContext(rng=rng, seed=seed_value, time_limit=limit, options=own, start=t0)
+    ctx.options = own
     sol = run_spec(spec, problem, ctx)
-    return build_result(form, problem, registry, spec, sol, ctx, common, notes)
+    bound, log = (None, [])
+    if common["bound"] and not ctx.interrupted:
+        bound, log = attach_bound(problem, registry, ctx, sol, problem.value(sol.sigma), float(common["bound_share"]))
+    info = dict(sol.info)
+    if log:
+        info["bounds"] = log
+    if common["explain"] or spec.capabilities.assumptions:
+        from .dispatch import choose
+        from .portfolio import forced_method_warnings
+
+        try:
+            choice = choose(problem, registry)
+        except SpinwardError:
+            choice = None
+        if choice is not None:
+            for message in forced_method_warnings(problem, spec, choice, form.form):
+                ctx.warn(message)
+            if common["explain"]:
+                info["explanation"] = choice.explanation()
+    return build_result(form, problem, spec, sol, ctx, notes, bound, info)
 
 
-def build_result(form: ProblemForm, problem: CanonicalProblem, registry: Registry, spec: SolverSpec,
-                 sol: Solution, ctx: SolveContext, common: dict[str, Any], notes: list[str]) -> Result:
+def build_result(form: ProblemForm, problem: CanonicalProblem, spec: SolverSpec, sol: Solution, ctx: SolveContext,
+                 notes: list[str], bound: Bound | None, info: dict[str, Any]) -> Result:
     """Decode, recompute the caller's objective, attach bound and gap."""
     values = form.decode(sol.sigma)
     objective = float(form.evaluate(values))
     canonical_value = problem.value(sol.sigma)
     _check_consistency(problem, objective, canonical_value, spec.name)
-    info = dict(sol.info)
     bound_value, kind = None, None
-    if common["bound"] and ctx.interrupted is False:
-        bound, log = attach_bound(problem, registry, ctx, sol, canonical_value, float(common["bound_share"]))
-        if log:
-            info["bounds"] = log
-        if bound is not None:
-            bound_value = problem.bound_to_objective(max(bound.value, canonical_value))
-            kind = "certified" if bound.certified else "estimated"
-            info["bound_method"] = bound.method
+    if bound is not None:
+        bound_value = problem.bound_to_objective(max(bound.value, canonical_value))
+        kind = "certified" if bound.certified else "estimated"
+        info["bound_method"] = bound.method
     gap = relative_gap(bound_value, objective)
     exact = bool(sol.exact) or (kind == "certified" and gap is not None and gap <= 1e-12)
     if ctx.trace:
         info.setdefault("trace", [(t, problem.to_objective(v)) for t, v in ctx.trace])
+    status = derive_status(sol, ctx)
+    if exact and status == "feasible":
+        status = "optimal"
     return Result(form=form.form, assignment=dict(zip(problem.labels, values.tolist())),
                   array=tuple(values.tolist()), objective=objective, sense=form.sense, bound=bound_value,
-                  bound_kind=kind, gap=gap, exact=exact, solver=spec.name, status=derive_status(sol, ctx),
+                  bound_kind=kind, gap=gap, exact=exact, solver=spec.name, status=status,
                   wall_time=ctx.elapsed(), seed=ctx.seed, warnings=tuple(notes + ctx.warnings), info=info)
 
 

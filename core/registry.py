@@ -36,6 +36,7 @@ class Capabilities:
     operator: bool = False       # accepts a matrix-free LinearOperator K
     stochastic: bool = True      # result depends on the seed
     max_n: int | None = None     # hard size limit
+    warm_start: bool = False     # accepts option "initial" (canonical ±1 start state) to improve on
     assumptions: tuple[str, ...] = ()  # plain-words conditions for its guarantees
 
 

@@ -10,7 +10,6 @@ caller's own input, in the caller's sense.  ``bound`` is in the caller's units
 from __future__ import annotations
 
 import json
-import math
 from pathlib import Path
 from typing import Any, Hashable, Literal
 

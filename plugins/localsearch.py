@@ -17,13 +17,18 @@ DEFAULT_RESTARTS = 16
 
 
 def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
-    """Random restarts until ``restarts`` (default 16; unlimited with a time limit) or the clock stops."""
+    """Random restarts until ``restarts`` (default 16; unlimited with a time limit) or the clock stops.
+
+    With ``initial`` (a canonical ±1 state) the first climb starts there.
+    """
     restarts = ctx.option("restarts", None)
     if restarts is None:
         restarts = DEFAULT_RESTARTS if ctx.time_limit is None else 10**9
     done = 0
+    initial = ctx.option("initial", None)
     while done < max(int(restarts), 1):
-        sigma, value = local_search(problem, random_spins(problem.n, ctx.rng))
+        start = random_spins(problem.n, ctx.rng) if initial is None or done else np.asarray(initial, dtype=np.int8)
+        sigma, value = local_search(problem, start)
         ctx.offer(sigma, value)
         done += 1
         if ctx.should_stop():
@@ -40,9 +45,9 @@ def fit(problem: CanonicalProblem) -> float:
 SPEC = SolverSpec(
     name="local",
     run=run,
-    capabilities=Capabilities(operator=False),
+    capabilities=Capabilities(operator=False, warm_start=True),
     summary="multi-start greedy single-flip local search",
-    options={"restarts": None},
+    options={"restarts": None, "initial": None},
     fit=fit,
 )
 

@@ -66,10 +66,21 @@ def cmd_solvers(args: argparse.Namespace) -> int:
     return 0
 
 
+def cmd_inspect(args: argparse.Namespace) -> int:
+    import spinward
+
+    from .explain import format_choice, inspect_form
+
+    form = spinward.read_problem(args.file, form=args.form)
+    print(format_choice(form, inspect_form(form, spinward.default_registry())))
+    return 0
+
+
 COMMANDS: dict[str, tuple[Callable[[argparse.Namespace], int], str]] = {
     "solve": (cmd_solve, "solve a problem file and print a summary"),
     "demo": (cmd_demo, "solve a built-in example (a two-band radio frequency plan)"),
     "solvers": (cmd_solvers, "list the registered solvers"),
+    "inspect": (cmd_inspect, "profile a problem file and explain which solver 'auto' would choose"),
 }
 
 
@@ -90,6 +101,9 @@ def build_parser() -> argparse.ArgumentParser:
             p.add_argument("--csv", default=None, help="write the assignment as CSV (label,value) here")
             p.add_argument("--option", action="append", type=_option_pair, metavar="KEY=VALUE",
                            help="solver option (value parsed as JSON when possible); repeatable")
+        if name == "inspect":
+            p.add_argument("file", help="problem file")
+            p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
         if name == "demo":
             p.add_argument("--seed", type=int, default=0)
     return parser

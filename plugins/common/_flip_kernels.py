@@ -7,7 +7,6 @@ lazily: importing this module imports numba; compilation happens on first call.
 from __future__ import annotations
 
 import numba as nb
-import numpy as np
 
 
 @nb.njit(cache=True)

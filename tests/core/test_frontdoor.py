@@ -6,7 +6,6 @@ import os
 import signal
 
 import networkx as nx
-import numpy as np
 import pytest
 
 import spinward

@@ -2,15 +2,12 @@
 
 from __future__ import annotations
 
-import json
-import os
 import signal
 import subprocess
 import sys
 import time
 
 import networkx as nx
-import numpy as np
 import pytest
 
 import spinward
