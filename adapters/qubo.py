@@ -54,7 +54,7 @@ class QUBO(CachedForm):
         if is_sparse(Q):
             import scipy.sparse as sp
 
-            S = sp.csr_array((Q + Q.T) * 0.5)
+            S = sp.csr_array(Q * 0.5 + Q.T * 0.5)
             d = S.diagonal()
             off = sp.csr_array(S - sp.diags_array(d))
             off.eliminate_zeros()
@@ -62,7 +62,8 @@ class QUBO(CachedForm):
             off_total = float(row.sum())
         else:
             check_dense_memory(n)
-            S = (np.asarray(Q, dtype=np.float64) + np.asarray(Q, dtype=np.float64).T) * 0.5
+            Qf = np.asarray(Q, dtype=np.float64)
+            S = Qf * 0.5 + Qf.T * 0.5  # halves first: no overflow near the float64 limit
             d = np.diag(S).copy()
             off = S
             np.fill_diagonal(off, 0.0)

@@ -124,7 +124,7 @@ def power_of_two_scale(*magnitudes: float) -> float:
 
 
 def check_total(total: float, what: str) -> None:
-    if not math.isfinite(total) or total > 1e300:
+    if not math.isfinite(total) or total > 1e307:
         raise InputError(f"{what} sums to about {total:.3g}, beyond float64 range for objective values; "
                          f"divide the coefficients by a common factor")
 

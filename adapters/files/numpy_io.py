@@ -7,6 +7,8 @@ A .npy holds one square matrix.  A .npz is either a scipy.sparse archive
 
 from __future__ import annotations
 
+import zipfile
+import zlib
 from pathlib import Path
 from typing import Any
 
@@ -15,12 +17,14 @@ import numpy as np
 from spinward.core.errors import FileFormatError
 
 SPARSE_KEYS = {"format", "shape", "data"}
+#: what numpy and zipfile raise on damaged files
+DAMAGED = (ValueError, OSError, EOFError, KeyError, TypeError, zipfile.BadZipFile, zlib.error)
 
 
 def read_npy(p: Path) -> np.ndarray:
     try:
         return np.load(p, allow_pickle=False)
-    except ValueError as exc:
+    except DAMAGED as exc:
         raise FileFormatError(f"{p}: cannot read as .npy without pickle ({exc})") from None
 
 
@@ -34,5 +38,5 @@ def read_npz(p: Path) -> dict[str, Any]:
 
                 return {"matrix": sp.csr_array(sp.load_npz(p))}
             return {k: archive[k] for k in keys}
-    except (ValueError, OSError) as exc:
+    except DAMAGED as exc:
         raise FileFormatError(f"{p}: cannot read as .npz without pickle ({exc})") from None
