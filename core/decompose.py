@@ -10,7 +10,8 @@ spin 0, which :func:`connected_components` always lists first.
 
 from __future__ import annotations
 
-from typing import Sequence
+from collections.abc import Sequence
+from typing import Any
 
 import numpy as np
 
@@ -19,8 +20,8 @@ from .canonical import CanonicalProblem
 __all__ = ["assemble", "connected_components", "subproblem"]
 
 
-def _pattern(problem: CanonicalProblem):  # -> scipy.sparse.csr_array
-    """The non-zero pattern of K as a sparse matrix (scipy imported lazily)."""
+def _pattern(problem: CanonicalProblem) -> Any:
+    """The non-zero pattern of K as a scipy.sparse CSR array (scipy imported lazily)."""
     import scipy.sparse as sp
 
     if problem.kind == "sparse":
@@ -45,7 +46,7 @@ def connected_components(problem: CanonicalProblem) -> list[np.ndarray]:
         return [np.arange(n, dtype=np.int64)]
     from scipy.sparse.csgraph import connected_components as cc
 
-    count, labels = cc(_pattern(problem), directed=False)
+    _, labels = cc(_pattern(problem), directed=False)
     order = np.argsort(labels, kind="stable")  # stable: indices ascending inside each label
     splits = np.flatnonzero(np.diff(labels[order])) + 1
     parts = np.split(order.astype(np.int64), splits)

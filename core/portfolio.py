@@ -22,7 +22,7 @@ from .dispatch import Choice, choose
 from .errors import OptionWarning
 from .frontdoor import attach_bound, run_spec
 from .profile import profile_of
-from .registry import Bound, Registry, Solution, SolverSpec
+from .registry import MEAN_FIELD_ASSUMPTION, Bound, Registry, Solution, SolverSpec
 
 MAX_PARTS = 64          # more components than this: the small ones are solved together
 MIN_PART_SECONDS = 0.05
@@ -161,10 +161,10 @@ def _warn_unknown(options: dict[str, Any], choice: Choice) -> None:
 def forced_method_warnings(problem: CanonicalProblem, spec: SolverSpec, choice: Choice, form: str) -> list[str]:
     """Plain-words warnings when a caller forces a solver whose assumptions this problem breaks."""
     prof = choice.profile
-    if not spec.capabilities.assumptions or prof.mean_field:
+    if MEAN_FIELD_ASSUMPTION not in spec.capabilities.assumptions or prof.mean_field:
         return []
     reasons = "; ".join(prof.mean_field_reasons) or "the couplings are not mean-field"
     better = choice.spec.name if choice.spec.name != spec.name else None
     tail = f" For this {form} problem 'auto' would choose {better!r}." if better else ""
-    return [f"{spec.name!r} assumes {', '.join(spec.capabilities.assumptions)}, which this problem does not meet "
+    return [f"{spec.name!r} assumes {MEAN_FIELD_ASSUMPTION}, which this problem does not meet "
             f"({reasons}); its guarantee does not hold here.{tail}"]

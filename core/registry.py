@@ -25,6 +25,10 @@ from .hookspec import AUTOLOAD_ENV, ENTRY_POINT_GROUP, PROJECT, SolverHooks
 _NAME = re.compile(r"[A-Za-z][A-Za-z0-9_.\-]*")
 
 
+#: the assumption under which the mean-field (Parisi) guarantees hold; solvers that need it declare it
+MEAN_FIELD_ASSUMPTION = "dense, mean-zero, i.i.d.-like couplings"
+
+
 @dataclass(frozen=True)
 class Capabilities:
     """What a solver declares about itself, once; dispatch reads only this and ``check``."""

@@ -20,6 +20,7 @@ from .core.result import Result
 BUILTIN_PLUGINS: tuple[str, ...] = (
     "spinward.plugins.enumeration",
     "spinward.plugins.localsearch",
+    "spinward.plugins.structure",
 )
 
 _lock = threading.Lock()

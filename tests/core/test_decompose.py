@@ -36,7 +36,7 @@ def two_components(rng: np.random.Generator, sparse: bool) -> tuple[CanonicalPro
     K = np.zeros((n, n))
     for blk in blocks:
         path = list(blk)
-        for u, v in zip(path, path[1:]):  # a path keeps each block connected
+        for u, v in itertools.pairwise(path):  # a path keeps each block connected
             K[u, v] = K[v, u] = rng.normal()
         for u, v in itertools.combinations(path, 2):
             if rng.random() < 0.3:
@@ -48,7 +48,7 @@ def two_components(rng: np.random.Generator, sparse: bool) -> tuple[CanonicalPro
 
 @pytest.mark.parametrize("sparse", [False, True])
 def test_two_components_match_networkx_and_add_up(sparse):
-    problem, blocks = two_components(np.random.default_rng(8), sparse)
+    problem, _ = two_components(np.random.default_rng(8), sparse)
     parts = connected_components(problem)
     G = nx.from_numpy_array(problem.dense_K())
     assert sorted(map(set, map(list, parts)), key=min) == sorted(map(set, nx.connected_components(G)), key=min)

@@ -1,0 +1,89 @@
+"""Exact solvers for structured inputs: ferromagnets (min-cut), frustration-free couplings (gauge)
+and low treewidth (tree DP).
+
+Canonical sense everywhere: maximise ½σᵀKσ + bᵀσ + k₀.  Each solver's ``check``
+answers True or a reason in plain words, and ``exact`` is set on a result only
+when the solver proved it optimal.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from typing import Any
+
+from spinward.core import Capabilities, CanonicalProblem, Solution, SolveContext, SolverSpec, hookimpl
+
+
+def _run_mincut(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    from . import mincut
+
+    return mincut.solve_ferromagnet(problem, ctx)
+
+
+def _run_gauge(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    from . import gauge
+
+    return gauge.solve_frustration_free(problem, ctx)
+
+
+def _run_treedp(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    from . import treedp
+
+    return treedp.solve_low_width(problem, ctx)
+
+
+def _check_mincut(problem: CanonicalProblem) -> bool | str:
+    from . import mincut
+
+    return mincut.check(problem)
+
+
+def _check_gauge(problem: CanonicalProblem) -> bool | str:
+    from . import gauge
+
+    return gauge.check(problem)
+
+
+def _check_treedp(problem: CanonicalProblem) -> bool | str:
+    from . import treedp
+
+    return treedp.check(problem)
+
+
+def _fit(score: float) -> Callable[[Any], float]:
+    """A constant score: exact solvers outrank heuristics wherever their check passes."""
+
+    def fit(_: Any) -> float:
+        return score
+
+    return fit
+
+
+# No ``assumptions``: each condition is enforced by the solver's check, which declines with its reason.
+_EXACT = dict(exact=True, fields=True, dense=True, sparse=True, operator=False, stochastic=False)
+
+SPECS = [
+    SolverSpec(
+        name="mincut", run=_run_mincut, check=_check_mincut, fit=_fit(100.0),
+        capabilities=Capabilities(**_EXACT),
+        summary="exact s–t minimum cut for ferromagnetic / submodular problems with any fields",
+        options={"max_levels": 12},
+    ),
+    SolverSpec(
+        name="gauge", run=_run_gauge, check=_check_gauge, fit=_fit(90.0),
+        capabilities=Capabilities(**_EXACT),
+        summary="exact gauge fixing for frustration-free couplings; min-cut when there are fields",
+        options={"max_levels": 12},
+    ),
+    SolverSpec(
+        name="treedp", run=_run_treedp, check=_check_treedp, fit=_fit(80.0),
+        capabilities=Capabilities(**_EXACT),
+        summary="exact dynamic programming over a tree decomposition of low width",
+        options={"max_width": 20, "order_time": 2.0, "max_memory_mb": 1024},
+    ),
+]
+
+
+@hookimpl
+def spinward_solvers() -> list[SolverSpec]:
+    return list(SPECS)
