@@ -182,7 +182,10 @@ def solve_form(form: ProblemForm, *, registry: Registry, method: Any = "auto", t
     spec = pick_spec(method, problem, registry, chooser)
     own, common = split_options(spec, options)
     ctx.options = own
+    if limit is not None and common["bound"]:  # the bound's share comes out of the caller's limit
+        ctx.time_limit = limit * (1 - float(common["bound_share"]))
     sol = run_spec(spec, problem, ctx)
+    ctx.time_limit = limit
     bound, log = (None, [])
     if common["bound"] and not ctx.interrupted:
         bound, log = attach_bound(problem, registry, ctx, sol, problem.value(sol.sigma), float(common["bound_share"]))

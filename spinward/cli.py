@@ -106,6 +106,10 @@ def build_parser() -> argparse.ArgumentParser:
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
         if name == "demo":
             p.add_argument("--seed", type=int, default=0)
+    from .bench.cli import add_bench_parser, add_report_parser
+
+    add_bench_parser(sub)
+    add_report_parser(sub)
     return parser
 
 
@@ -117,7 +121,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         return 2
     from .core.errors import SpinwardError
 
-    handler = COMMANDS[args.command][0]
+    handler = getattr(args, "func", None) or COMMANDS[args.command][0]
     try:
         return handler(args)
     except SpinwardError as exc:

@@ -1,0 +1,82 @@
+"""The example suites, the command-line parsers and the progress display."""
+
+from __future__ import annotations
+
+import argparse
+import time
+from pathlib import Path
+
+import pytest
+
+import spinward
+from spinward.bench.cli import add_bench_parser, add_report_parser
+from spinward.bench.runner import Progress, run_suite
+from spinward.bench.store import Store
+from spinward.bench.suite import expand, instances, load_suite
+
+SUITES = Path(__file__).resolve().parents[2] / "examples" / "suites"
+ALWAYS = {"local", "enumerate"}
+
+
+def test_quick_suite_needs_only_the_always_present_solvers():
+    suite = load_suite(SUITES / "quick.toml")
+    required = {s.name for s in suite.solvers if not s.optional}
+    assert required <= ALWAYS
+    runs, notes = expand(suite, sorted(ALWAYS))
+    assert runs and all(r.solver in ALWAYS for r in runs)
+    assert len(notes) == sum(s.optional for s in suite.solvers)
+    exact = next(s for s in suite.solvers if s.name == "enumerate")
+    assert exact.time_limit == float("inf")  # written `inf`: the exact solver runs without a limit
+    assert all(r.time_limit is None for r in runs if r.solver == "enumerate")
+
+
+def test_full_suite_covers_the_study():
+    suite = load_suite(SUITES / "full.toml")
+    sizes = {g.family: g.sizes for g in suite.generate}
+    assert min(sizes["sk"]) == 1000 and max(sizes["sk"]) == 8000
+    assert {"regular", "sparse_er"} <= set(sizes)
+    names = {s.name for s in suite.solvers}
+    assert {"descent", "anneal", "tabu", "sdp"} <= names
+    runs, _ = expand(suite, sorted(names))
+    assert len(runs) == len(instances(suite)) * len(names) * len(suite.seeds)
+
+
+def test_parsers_plug_into_any_subparsers():
+    parser = argparse.ArgumentParser(prog="x")
+    sub = parser.add_subparsers(dest="command")
+    add_bench_parser(sub)
+    add_report_parser(sub)
+    args = parser.parse_args(["bench", "s.toml", "--db", "r.sqlite", "--workers", "3", "--scheduler", "tcp://h:8786"])
+    assert (args.suite, args.db, args.workers, args.scheduler, args.executor) == ("s.toml", "r.sqlite", 3,
+                                                                                   "tcp://h:8786", "local")
+    assert args.func.__name__ == "cmd_bench"
+    args = parser.parse_args(["report", "r.sqlite", "--html", "o.html"])
+    assert (args.db, args.html, args.func.__name__) == ("r.sqlite", "o.html", "cmd_report")
+    with pytest.raises(SystemExit):
+        parser.parse_args(["bench", "s.toml", "--db", "r.sqlite", "--workers", "0"])
+
+
+def test_plain_progress_lines_when_not_a_terminal(capsys):
+    bar = Progress(2, "auto")  # pytest's captured stderr is not a terminal
+    row = {"family": "sk", "n": 8, "solver": "local", "seed": 0, "repetition": 0, "status": "feasible",
+           "objective": -3.5, "wall_time": 0.25}
+    bar.update(row)
+    bar.update({**row, "status": "unsuitable", "objective": None})
+    bar.close()
+    out = capsys.readouterr().out.splitlines()
+    assert out == ["[1/2] sk n=8 local seed=0 rep=0: feasible objective=-3.5 (0.25 s)",
+                   "[2/2] sk n=8 local seed=0 rep=0: unsuitable (0.25 s)"]
+
+
+@pytest.mark.slow
+def test_quick_suite_runs_within_two_minutes_on_two_workers(tmp_path, request):
+    if "slow" not in (request.config.getoption("-m") or ""):
+        pytest.skip("about 30 s: run with -m slow")
+    suite = load_suite(SUITES / "quick.toml")
+    t0 = time.perf_counter()
+    with Store(tmp_path / "q.sqlite") as store:
+        summary = run_suite(suite, store, workers=2, progress="none")
+        errors = store.rows("status = 'error'")
+    assert time.perf_counter() - t0 < 120
+    assert summary.stored == summary.planned and not errors
+    assert set(spinward.solvers()) >= ALWAYS
