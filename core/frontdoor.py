@@ -114,10 +114,10 @@ def derive_status(sol: Solution, ctx: SolveContext) -> str:
 
 
 def bound_budget(ctx: SolveContext, share: float) -> float:
-    """Seconds the bound providers may use: a share of the limit, or of the time spent so far."""
+    """Seconds the bound providers may use: a share of the limit, or (no limit) as long as the solve took, ≥ 3 s."""
     if ctx.time_limit is not None:
         return max(share * ctx.time_limit, 0.05)
-    return max(1.0, 0.5 * ctx.elapsed())
+    return max(3.0, ctx.elapsed())
 
 
 def attach_bound(problem: CanonicalProblem, registry: Registry, ctx: SolveContext, sol: Solution,

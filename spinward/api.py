@@ -21,6 +21,7 @@ BUILTIN_PLUGINS: tuple[str, ...] = (
     "spinward.plugins.enumeration",
     "spinward.plugins.localsearch",
     "spinward.plugins.structure",
+    "spinward.plugins.sdp",
 )
 
 _lock = threading.Lock()

@@ -76,10 +76,40 @@ def cmd_inspect(args: argparse.Namespace) -> int:
     return 0
 
 
+def cmd_bound(args: argparse.Namespace) -> int:
+    import time
+
+    import numpy as np
+
+    import spinward
+    from spinward.core.context import SolveContext
+
+    form = spinward.read_problem(args.file, form=args.form)
+    problem = form.canonical()
+    goal = "lower" if form.sense == "min" else "upper"
+    print(f"{form.form} problem, n = {problem.n}: {goal} bounds on the optimum (the caller's objective)")
+    for provider in spinward.default_registry().bounds():
+        verdict = provider.applies(problem)
+        if verdict is not True:
+            print(f"  {provider.name:10s} not applicable: {verdict}")
+            continue
+        ctx = SolveContext(rng=np.random.default_rng(0), time_limit=args.time_limit)
+        t0 = time.perf_counter()
+        b = provider.compute(problem, ctx)
+        seconds = time.perf_counter() - t0
+        if b is None:
+            print(f"  {provider.name:10s} skipped: it did not fit the time limit ({seconds:.2f} s)")
+            continue
+        kind = "certified" if b.certified else "estimated"
+        print(f"  {provider.name:10s} {problem.bound_to_objective(b.value):.10g}  ({kind}, {seconds:.2f} s)")
+    return 0
+
+
 COMMANDS: dict[str, tuple[Callable[[argparse.Namespace], int], str]] = {
     "solve": (cmd_solve, "solve a problem file and print a summary"),
     "demo": (cmd_demo, "solve a built-in example (a two-band radio frequency plan)"),
     "solvers": (cmd_solvers, "list the registered solvers"),
+    "bound": (cmd_bound, "print every registered bound on a problem file's optimum, with its time"),
     "inspect": (cmd_inspect, "profile a problem file and explain which solver 'auto' would choose"),
 }
 
@@ -101,6 +131,10 @@ def build_parser() -> argparse.ArgumentParser:
             p.add_argument("--csv", default=None, help="write the assignment as CSV (label,value) here")
             p.add_argument("--option", action="append", type=_option_pair, metavar="KEY=VALUE",
                            help="solver option (value parsed as JSON when possible); repeatable")
+        if name == "bound":
+            p.add_argument("file", help="problem file")
+            p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
+            p.add_argument("--time-limit", type=float, default=None, help="seconds per bound (default: no limit)")
         if name == "inspect":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)

@@ -1,0 +1,63 @@
+"""Spectral rounding: the sign of the top eigenvector, then single-flip clean-up.
+
+Canonical sense: maximise C(σ) = ½σᵀKσ + bᵀσ + k₀.  The top eigenvector of the
+ghost-spin lift K' maximises ½xᵀK'x over the sphere |x|² = N; its signs give a
+state (ghost sign undone), which local search then climbs to a 1-flip optimum.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from spinward.core import Capabilities, CanonicalProblem, Solution, SolveContext, SolverSpec
+
+from .common.flips import local_search
+
+EIGH_LIMIT = 2500  # dense eigh (top index only) up to this size; Lanczos beyond
+
+
+def top_eigenvector(lifted: CanonicalProblem, rng: np.random.Generator) -> np.ndarray:
+    """A unit eigenvector of the largest eigenvalue of K' (dense eigh or Lanczos)."""
+    N = lifted.n
+    if N == 1:
+        return np.ones(1)
+    if lifted.kind == "dense" and N <= EIGH_LIMIT:
+        import scipy.linalg as sl
+
+        _, U = sl.eigh(lifted.dense_K(), subset_by_index=[N - 1, N - 1], check_finite=False)
+        return U[:, 0]
+    import scipy.sparse.linalg as sla
+
+    K = lifted.csr_K() if lifted.kind == "sparse" else lifted.K
+    _, U = sla.eigsh(K, k=1, which="LA", v0=rng.standard_normal(N), tol=1e-8)
+    return U[:, 0]
+
+
+def signs(x: np.ndarray, lifted: bool) -> np.ndarray:
+    """±1 signs of x (zeros to +1), ghost sign (last entry) undone when lifted."""
+    s = np.where(x >= 0.0, 1, -1).astype(np.int8)
+    return (s[:-1] * s[-1]).astype(np.int8) if lifted else s
+
+
+def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    """Sign of the top eigenvector of the lift, polished by single flips."""
+    lifted = problem.with_gauge_spin() if problem.has_fields else problem
+    x = top_eigenvector(lifted, ctx.rng)
+    sigma, value = local_search(problem, signs(x, lifted is not problem))
+    ctx.offer(sigma, value)
+    return Solution(sigma=sigma, info={"raw_value": problem.value(signs(x, lifted is not problem))})
+
+
+def fit(problem: CanonicalProblem) -> float:
+    """Fast but weak: only just above nothing."""
+    return 0.5
+
+
+SPEC = SolverSpec(
+    name="spectral",
+    run=run,
+    capabilities=Capabilities(fields=True, operator=False, stochastic=False),
+    summary="sign of the top eigenvector, then single-flip clean-up",
+    options={},
+    fit=fit,
+)
