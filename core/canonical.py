@@ -19,6 +19,7 @@ import numpy as np
 from .errors import InputError
 
 Sense = Literal["min", "max"]
+ROW_BLOCK = 512  # rows per block when streaming a float32 or memory-mapped K
 
 
 def is_sparse(K: Any) -> bool:
@@ -77,10 +78,35 @@ class CanonicalProblem:
         return bool(np.any(self.b != 0))
 
     def matvec(self, x: np.ndarray) -> np.ndarray:
-        """K @ x for any of the three kinds of K, in float64."""
+        """K @ x for any of the three kinds of K, accumulated in float64.
+
+        A float32 or memory-mapped dense K is streamed in row blocks, so no full
+        float64 copy of K is ever made.
+        """
         if self.kind == "operator":
             return np.asarray(self.K.matvec(x), dtype=np.float64)
-        return np.asarray(self.K @ x, dtype=np.float64)
+        K = self.K
+        if self.kind == "dense" and (K.dtype != np.float64 or isinstance(K, np.memmap)):
+            x = np.asarray(x, dtype=np.float64)
+            out = np.empty(K.shape[0])
+            for start in range(0, K.shape[0], ROW_BLOCK):
+                out[start:start + ROW_BLOCK] = np.asarray(K[start:start + ROW_BLOCK], dtype=np.float64) @ x
+            return out
+        return np.asarray(K @ x, dtype=np.float64)
+
+    def max_abs_coupling(self) -> float:
+        """max |K_ij| (0 for an empty or operator K), computed once without an n² temporary."""
+        cached = self.meta.get("_max_abs")
+        if cached is None:
+            if self.kind == "sparse":
+                cached = float(abs(self.K).max()) if self.K.nnz else 0.0
+            elif self.kind == "operator" or self.n == 0:
+                cached = 0.0
+            else:
+                cached = max(max(float(np.max(K)), -float(np.min(K)))
+                             for K in (self.K[s:s + ROW_BLOCK] for s in range(0, self.n, ROW_BLOCK)))
+            self.meta["_max_abs"] = cached
+        return cached
 
     def local_fields(self, sigma: np.ndarray) -> np.ndarray:
         """h = Kσ + b; flipping spin i changes C by −2σᵢhᵢ."""

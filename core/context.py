@@ -48,6 +48,7 @@ class SolveContext:
     best_sigma: np.ndarray | None = None
     best_value: float = -math.inf
     trace: list[tuple[float, float]] = field(default_factory=list)
+    parent: "SolveContext | None" = None
 
     def elapsed(self) -> float:
         return time.perf_counter() - self.start
@@ -63,6 +64,9 @@ class SolveContext:
 
     def should_stop(self) -> bool:
         """True once the time limit has passed or Ctrl-C was pressed."""
+        if self.parent is not None and self.parent.should_stop():
+            self.interrupted = self.interrupted or self.parent.interrupted
+            return True
         return self.interrupted or self.expired()
 
     def offer(self, sigma: np.ndarray, value: float) -> bool:
@@ -86,10 +90,8 @@ class SolveContext:
     def child(self, time_limit: float | None = None, **options: Any) -> "SolveContext":
         """A context for a sub-solver sharing the clock, rng, interrupt flag and incumbent view."""
         limit = self.remaining() if time_limit is None else min(time_limit, self.remaining())
-        sub = SolveContext(rng=self.rng, seed=self.seed, time_limit=None if math.isinf(limit) else limit,
-                           options=dict(options))
-        sub.interrupted = self.interrupted
-        return sub
+        return SolveContext(rng=self.rng, seed=self.seed, time_limit=None if math.isinf(limit) else limit,
+                            options=dict(options), interrupted=self.interrupted, parent=self)
 
 
 @contextmanager

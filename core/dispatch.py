@@ -94,3 +94,32 @@ def mean_field_prediction(problem: CanonicalProblem, prof: Profile) -> dict[str,
             "source": "Parisi formula, P* = 0.7631667 (Crisanti & Rizzo 2002); finite-size e_n ≈ P* − 0.7 n^(-2/3) "
                       "(Boettcher 2005, coefficient from memory): an estimate, not a bound",
             "balanced": prof.mean < 0}
+
+
+def mean_part_warning(problem: CanonicalProblem, prof: Profile, prediction: dict[str, Any] | None) -> str | None:
+    """In the caller's terms: a negative mean coupling is a rank-one part that favours balanced states.
+
+    Emitted when a mean-field solver ran on a dense problem whose mean is visible
+    above the semicircle (``mean_outlier > 1``); None otherwise.
+    """
+    if not (prof.dense and prof.mean < 0 and prof.mean_outlier > 1.0):
+        return None
+    caller_mean = abs(prof.mean * problem.scale)
+    if problem.form == "maxcut":
+        what = (f"the graph is dense and its edge weights average {2 * caller_mean:.4g} per pair of nodes: this "
+                f"rank-one part favours balanced cuts (two sides of equal size)")
+        goal = "cut"
+    elif problem.form == "qubo":
+        what = (f"the QUBO's off-diagonal entries have a positive mean ({4 * caller_mean:.4g} per pair, Q_ij + Q_ji): "
+                f"this rank-one part favours assignments with about as many 1s as 0s")
+        goal = "minimum"
+    else:
+        what = (f"the couplings have an antiferromagnetic mean ({-caller_mean:.4g} per pair): this rank-one part "
+                f"favours states with zero magnetisation")
+        goal = "minimum energy"
+    text = (f"{what}. The solver centred the couplings (removed the mean) for message passing and cleaned up on the "
+            f"full couplings, which keeps the state balanced.")
+    if prediction:
+        text += (f" Parisi-based prediction for the {goal}: ≈ {prediction['optimum']:.6g} "
+                 f"(finite-size estimate {prediction['finite_size_estimate']:.6g}; an estimate, not a bound).")
+    return text

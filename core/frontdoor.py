@@ -193,8 +193,9 @@ def solve_form(form: ProblemForm, *, registry: Registry, method: Any = "auto", t
     if log:
         info["bounds"] = log
     if common["explain"] or spec.capabilities.assumptions:
-        from .dispatch import choose
+        from .dispatch import choose, mean_part_warning
         from .portfolio import forced_method_warnings
+        from .registry import MEAN_FIELD_ASSUMPTION
 
         try:
             choice = choose(problem, registry)
@@ -203,6 +204,10 @@ def solve_form(form: ProblemForm, *, registry: Registry, method: Any = "auto", t
         if choice is not None:
             for message in forced_method_warnings(problem, spec, choice, form.form):
                 ctx.warn(message)
+            mean_note = mean_part_warning(problem, choice.profile, choice.prediction) \
+                if MEAN_FIELD_ASSUMPTION in spec.capabilities.assumptions else None
+            if mean_note:
+                ctx.warn(mean_note)
             if common["explain"]:
                 info["explanation"] = choice.explanation()
     return build_result(form, problem, spec, sol, ctx, notes, bound, info)

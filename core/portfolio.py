@@ -18,7 +18,7 @@ import numpy as np
 from .canonical import CanonicalProblem
 from .context import SolveContext, interrupt_guard
 from .decompose import assemble, connected_components, subproblem
-from .dispatch import Choice, choose
+from .dispatch import Choice, choose, mean_part_warning
 from .errors import OptionWarning
 from .frontdoor import attach_bound, run_spec
 from .profile import profile_of
@@ -104,6 +104,10 @@ def _solve_part(sub: CanonicalProblem, idx: np.ndarray, registry: Registry, ctx:
         steps += more
         if sub.value(better.sigma) > sub.value(sol.sigma):
             sol = Solution(sigma=better.sigma, exact=False, bound=sol.bound, info=sol.info)
+    if MEAN_FIELD_ASSUMPTION in choice.spec.capabilities.assumptions:
+        message = mean_part_warning(sub, choice.profile, choice.prediction)
+        if message:
+            ctx.warn(message)
     part_bound = None
     if bound and not ctx.interrupted:
         part_bound, log = attach_bound(sub, registry, ctx, sol, sub.value(sol.sigma), bound_share * share)

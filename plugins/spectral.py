@@ -14,14 +14,15 @@ from spinward.core import Capabilities, CanonicalProblem, Solution, SolveContext
 from .common.flips import local_search
 
 EIGH_LIMIT = 2500  # dense eigh (top index only) up to this size; Lanczos beyond
+SMALL = 400        # any K this small is densified (ARPACK needs N well above k)
 
 
 def top_eigenvector(lifted: CanonicalProblem, rng: np.random.Generator) -> np.ndarray:
     """A unit eigenvector of the largest eigenvalue of K' (dense eigh or Lanczos)."""
     N = lifted.n
-    if N == 1:
-        return np.ones(1)
-    if lifted.kind == "dense" and N <= EIGH_LIMIT:
+    if N == 1 or lifted.n_couplings() == 0:
+        return np.ones(N)  # no couplings: every vector is a top eigenvector
+    if N <= SMALL or (lifted.kind == "dense" and N <= EIGH_LIMIT):
         import scipy.linalg as sl
 
         _, U = sl.eigh(lifted.dense_K(), subset_by_index=[N - 1, N - 1], check_finite=False)

@@ -22,6 +22,9 @@ BUILTIN_PLUGINS: tuple[str, ...] = (
     "spinward.plugins.localsearch",
     "spinward.plugins.structure",
     "spinward.plugins.sdp",
+    "spinward.plugins.annealing",
+    "spinward.plugins.tabu",
+    "spinward.plugins.descent",
 )
 
 _lock = threading.Lock()

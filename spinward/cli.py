@@ -105,11 +105,20 @@ def cmd_bound(args: argparse.Namespace) -> int:
     return 0
 
 
+def cmd_parisi(args: argparse.Namespace) -> int:
+    from .plugins.descent.parisi import format_parisi_table, parisi_table
+
+    ks = tuple(args.k) if args.k else (0, 1, 2, 3, 5, 10, 20, 50)
+    print(format_parisi_table(parisi_table(ks=ks)))
+    return 0
+
+
 COMMANDS: dict[str, tuple[Callable[[argparse.Namespace], int], str]] = {
     "solve": (cmd_solve, "solve a problem file and print a summary"),
     "demo": (cmd_demo, "solve a built-in example (a two-band radio frequency plan)"),
     "solvers": (cmd_solvers, "list the registered solvers"),
     "bound": (cmd_bound, "print every registered bound on a problem file's optimum, with its time"),
+    "parisi": (cmd_parisi, "print the zero-temperature Parisi k-RSB table and the full-RSB value, with timings"),
     "inspect": (cmd_inspect, "profile a problem file and explain which solver 'auto' would choose"),
 }
 
@@ -131,6 +140,8 @@ def build_parser() -> argparse.ArgumentParser:
             p.add_argument("--csv", default=None, help="write the assignment as CSV (label,value) here")
             p.add_argument("--option", action="append", type=_option_pair, metavar="KEY=VALUE",
                            help="solver option (value parsed as JSON when possible); repeatable")
+        if name == "parisi":
+            p.add_argument("--k", type=int, nargs="+", default=None, help="levels to solve (default 0 1 2 3 5 10 20 50)")
         if name == "bound":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)

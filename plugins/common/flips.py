@@ -18,13 +18,9 @@ MAX_SWEEPS = 10_000
 
 def flip_tolerance(problem: CanonicalProblem) -> float:
     """A gain below this is treated as zero (relative 1e-12 of the largest coefficient)."""
-    if problem.kind == "sparse":
-        big = float(abs(problem.K).max()) if problem.K.nnz else 0.0
-    elif problem.kind == "operator":
+    if problem.kind == "operator":
         return 1e-12
-    else:
-        big = float(np.abs(problem.K).max()) if problem.n else 0.0
-    big = max(big, float(np.abs(problem.b).max()) if problem.n else 0.0)
+    big = max(problem.max_abs_coupling(), float(np.abs(problem.b).max()) if problem.n else 0.0)
     return 1e-12 * max(big, 1e-300) * max(problem.n, 1)
 
 

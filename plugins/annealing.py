@@ -1,0 +1,243 @@
+"""Simulated annealing with single-spin flips (solver "anneal").
+
+Canonical sense: maximise C(σ) = ½σᵀKσ + bᵀσ + k₀ over σ ∈ {±1}ⁿ; the
+annealing energy is E = −C.  Each restart starts from uniform random spins and
+runs ``sweeps`` sweeps (default 1000) while β follows a linear or geometric schedule; the best
+end-of-sweep state is climbed to a 1-flip local optimum and offered.  With a
+time limit, restarts go on until the clock stops; unless ``sweeps`` is given,
+schedules lengthen (1000, 2000, 4000... sweeps), each cut down to fit the time
+left, so that none is stopped while still hot.
+
+The β range is set from the coupling scale, not left to the user: with
+s = RMS over i of √(Σⱼ Kᵢⱼ² + bᵢ²) (the RMS local field at a uniform random
+state), β runs from ``beta_range[0]/s`` to ``beta_range[1]/s``.  For the SK
+model (K = J, J ~ N(0,1)) s ≈ √n, so the default (0.2, 8) spans roughly
+T = 5·T_c down to T = T_c/8.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from spinward.core import Capabilities, CanonicalProblem, InputError, Solution, SolveContext, SolverSpec, hookimpl
+
+from .common.flips import csr_parts, local_search, random_spins
+
+SCHEDULES = ("linear", "geometric")
+DEFAULT_SWEEPS = 1000
+RULES = {"metropolis": 0, "heat-bath": 1}
+DEFAULT_BETA_RANGE = (0.2, 8.0)
+FLOAT32_COPY_LIMIT = 1 << 30  # bytes; above this the dense K is used as given (no working copy)
+CHUNK_SECONDS = 0.05          # target time between clock checks
+OFFER_SECONDS = 1.0           # hand the incumbent to the core at least this often
+FIT_SHARE = 0.8               # share of the time left that the next schedule may use
+PROBE_SWEEPS = 20             # length of the schedule that times a sweep
+
+OPTIONS: dict[str, Any] = {
+    "sweeps": None, "restarts": None, "schedule": "linear", "beta_range": None,
+    "rule": "metropolis", "precision": "auto",
+}
+
+
+@dataclass(frozen=True)
+class Plan:
+    """Validated options of one run."""
+
+    sweeps: int
+    restarts: int
+    betas: np.ndarray  # absolute inverse temperatures, one per sweep
+    rule: int
+    schedule: str = "linear"
+
+    def resized(self, sweeps: int) -> "Plan":
+        """The same β range over ``sweeps`` sweeps."""
+        betas = beta_schedule(self.schedule, float(self.betas[0]), float(self.betas[-1]), sweeps)
+        return Plan(sweeps, self.restarts, betas, self.rule, self.schedule)
+
+
+def coupling_scale(problem: CanonicalProblem) -> float:
+    """RMS over spins of √(Σⱼ Kᵢⱼ² + bᵢ²): the typical |local field| at a random state."""
+    if problem.kind == "sparse":
+        data = csr_parts(problem)[2]
+        total = float(data @ data)
+    else:
+        # Row by row, so a float32 or memory-mapped K is never copied whole.
+        total = 0.0
+        for row in np.asarray(problem.K):
+            r = np.asarray(row, dtype=np.float64)
+            total += float(r @ r)
+    total += float(problem.b @ problem.b)
+    scale = math.sqrt(total / max(problem.n, 1))
+    return scale if scale > 0 and math.isfinite(scale) else 1.0
+
+
+def beta_schedule(kind: str, lo: float, hi: float, sweeps: int) -> np.ndarray:
+    """β per sweep, from ``lo`` to ``hi`` (linear or geometric in β)."""
+    if kind == "linear":
+        return np.linspace(lo, hi, sweeps)
+    return np.geomspace(lo, hi, sweeps)
+
+
+def make_plan(problem: CanonicalProblem, ctx: SolveContext) -> Plan:
+    """Read and check the options; the β range is relative to :func:`coupling_scale`."""
+    sweeps = ctx.option("sweeps", None)
+    sweeps = DEFAULT_SWEEPS if sweeps is None else int(sweeps)
+    if sweeps < 1:
+        raise InputError(f"anneal: sweeps must be a positive integer, got {sweeps!r}")
+    schedule = ctx.option("schedule", OPTIONS["schedule"])
+    if schedule not in SCHEDULES:
+        raise InputError(f"anneal: schedule must be one of {SCHEDULES}, got {schedule!r}")
+    rule = ctx.option("rule", OPTIONS["rule"])
+    if rule not in RULES:
+        raise InputError(f"anneal: rule must be one of {tuple(RULES)}, got {rule!r}")
+    lo, hi = ctx.option("beta_range", None) or DEFAULT_BETA_RANGE
+    if not (0 < float(lo) <= float(hi) < math.inf):
+        raise InputError(f"anneal: beta_range must be two numbers 0 < lo <= hi, got {(lo, hi)!r}")
+    restarts = ctx.option("restarts", None)
+    if restarts is None:  # one anneal, or as many as the time limit allows
+        restarts = 1 if ctx.time_limit is None else 10**9
+    if int(restarts) < 1:
+        raise InputError(f"anneal: restarts must be a positive integer or None, got {restarts!r}")
+    scale = coupling_scale(problem)
+    betas = beta_schedule(schedule, float(lo) / scale, float(hi) / scale, sweeps)
+    return Plan(sweeps, int(restarts), betas, RULES[rule], schedule)
+
+
+def working_couplings(problem: CanonicalProblem, precision: str, who: str = "anneal") -> tuple[Any, ...]:
+    """Arguments that describe K to the kernel: (K,) dense or (indptr, indices, data) CSR.
+
+    A float32 working copy halves the memory traffic of the O(n) row updates; the
+    values reported are always recomputed from the caller's K.
+    """
+    if precision not in ("auto", "float32", "float64"):
+        raise InputError(f"{who}: precision must be 'auto', 'float32' or 'float64', got {precision!r}")
+    if problem.kind == "sparse":
+        return csr_parts(problem)
+    K = problem.K
+    small = problem.n * problem.n * 4 <= FLOAT32_COPY_LIMIT
+    want = np.float32 if precision == "float32" or (precision == "auto" and small) else np.float64
+    if precision == "auto" and K.dtype == np.float32:
+        want = np.float32
+    if K.dtype != want or not K.flags.c_contiguous:
+        K = np.ascontiguousarray(K, dtype=want)
+    return (K,)
+
+
+class Annealer:
+    """One restart's state: spins, local fields, generator state and best-so-far."""
+
+    def __init__(self, problem: CanonicalProblem, couplings: tuple[Any, ...], seed: int) -> None:
+        from . import _anneal_kernels as kern
+
+        self.problem, self.couplings = problem, couplings
+        self.kernel = kern.anneal_csr if problem.kind == "sparse" else kern.anneal_dense
+        self.rng_state = np.array([seed | 1], dtype=np.uint64)  # xorshift needs a non-zero state
+        self.sigma = np.zeros(problem.n)
+        self.h = np.zeros(problem.n)
+        self.best_sigma = np.zeros(problem.n)
+        self.current = self.best = -math.inf
+
+    def reset(self, start: np.ndarray) -> None:
+        """Start from ``start`` (±1) with exact local fields."""
+        self.sigma[:] = start
+        self.h[:] = self.problem.local_fields(self.sigma)
+        self.current = self.best = self.problem.value(self.sigma)
+        self.best_sigma[:] = self.sigma
+
+    def sweep(self, betas: np.ndarray, rule: int) -> None:
+        """Run one sweep per β in ``betas``."""
+        self.current, self.best = self.kernel(*self.couplings, self.h, self.sigma, betas, rule, self.rng_state,
+                                              self.best_sigma, self.current, self.best)
+
+
+def anneal_once(annealer: Annealer, plan: Plan, ctx: SolveContext) -> tuple[bool, int]:
+    """One full schedule in clock-checked chunks; returns (finished, sweeps done)."""
+    betas, done, chunk = plan.betas, 0, 1
+    last_offer = time.perf_counter()
+    while done < betas.size:
+        t0 = time.perf_counter()
+        annealer.sweep(betas[done:done + chunk], plan.rule)
+        done = min(done + chunk, betas.size)
+        spent = time.perf_counter() - t0
+        # Chunk length only sets how often the clock is read; the trajectory does not depend on it.
+        chunk = max(1, min(4 * chunk, int(chunk * CHUNK_SECONDS / max(spent, 1e-9))))
+        if ctx.should_stop():
+            return False, done
+        if time.perf_counter() - last_offer > OFFER_SECONDS:
+            ctx.offer(annealer.best_sigma, annealer.problem.value(annealer.best_sigma))
+            last_offer = time.perf_counter()
+    return True, done
+
+
+def next_length(target: int, per_sweep: float | None, remaining: float) -> int:
+    """Sweeps for the next schedule: ``target``, cut down to what the time left allows.
+
+    A schedule's run time is close to proportional to its length (the same β
+    curve, resampled), so ``per_sweep`` measured on any earlier run predicts it.
+    """
+    if per_sweep is None or math.isinf(remaining):
+        return target
+    return min(target, int(FIT_SHARE * remaining / max(per_sweep, 1e-12)))
+
+
+def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    """Anneal ``restarts`` times (default once; until the clock stops with a time limit).
+
+    With a time limit and no ``sweeps`` given, a short probe schedule measures the
+    cost of a sweep; then schedules of 1000, 2000, 4000... sweeps follow, each cut
+    down to fit the time left, so no schedule is stopped while still hot.
+    """
+    plan = make_plan(problem, ctx)
+    couplings = working_couplings(problem, ctx.option("precision", OPTIONS["precision"]))
+    grow = ctx.time_limit is not None and ctx.option("sweeps", None) is None
+    target, per_sweep = plan.sweeps, None
+    if grow:
+        plan = plan.resized(PROBE_SWEEPS)
+    done, sweeps_run, finished = 0, 0, True
+    while done < plan.restarts:
+        annealer = Annealer(problem, couplings, int(ctx.rng.integers(1, 2**63 - 1)))
+        annealer.reset(random_spins(problem.n, ctx.rng))
+        t0 = time.perf_counter()
+        finished, swept = anneal_once(annealer, plan, ctx)
+        t1 = time.perf_counter()
+        sweeps_run, done = sweeps_run + swept, done + 1
+        ctx.offer(*local_search(problem, annealer.best_sigma))
+        if ctx.should_stop():
+            break
+        if grow:
+            per_sweep, clean_up = (t1 - t0) / plan.sweeps, time.perf_counter() - t1
+            if plan.sweeps > PROBE_SWEEPS:
+                target *= 2
+            length = next_length(target, per_sweep, ctx.remaining() - clean_up)
+            if length < PROBE_SWEEPS:
+                break
+            plan = plan.resized(length)
+    assert ctx.best_sigma is not None
+    return Solution(sigma=ctx.best_sigma, info={"restarts": done, "sweeps": sweeps_run, "last_sweeps": plan.sweeps,
+                                                "schedule_finished": finished,
+                                                "beta_range": (float(plan.betas[0]), float(plan.betas[-1]))})
+
+
+def fit(problem: CanonicalProblem) -> float:
+    """A good general heuristic for dense and sparse couplings alike."""
+    return 2.0
+
+
+SPEC = SolverSpec(
+    name="anneal",
+    run=run,
+    capabilities=Capabilities(operator=False),
+    summary="simulated annealing, single-flip Metropolis or heat-bath, β schedule set from the coupling scale",
+    options=OPTIONS,
+    fit=fit,
+)
+
+
+@hookimpl
+def spinward_solvers() -> list[SolverSpec]:
+    return [SPEC]

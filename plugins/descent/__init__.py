@@ -1,0 +1,283 @@
+"""The descent solver: IAMP driven by the zero-temperature Parisi solution (solver "descent").
+
+Canonical sense: maximise C(σ) = ½σᵀKσ + bᵀσ + k₀.  The couplings are normalised to the
+mean-field scale of shared/CONVENTIONS.md, A = (K − m(11ᵀ − I)) / (s√n), so that on dense
+mean-zero i.i.d.-like couplings max ½σᵀAσ ≈ n·P* (P* ≈ 0.7632) and IAMP provably reaches
+(1 − ε)·P* (arXiv:1812.10897).  Fields are absorbed by one extra spin (with a warning: the
+guarantee no longer applies).  Each run rounds the IAMP magnetisation by sign and climbs to a
+1-flip local optimum of the true problem, then (``polish_sweeps``) walks at low temperature
+from there and climbs again, keeping the better state.
+
+Result info (canonical units): predicted_optimum = s·n^{3/2}·P* plus the mean's part for a
+balanced state plus k₀, finite_size_estimate (e_n ≈ P* − 0.7·n^{−2/3}), fraction_of_prediction
+(e/P*, the fluctuation part only, so a large mean part cannot inflate it),
+energy_per_spin_rounded / _cleaned / energy_per_spin (final, after the polish), where
+e = fluctuation part / (s·n^{3/2}), and overlaps (solutions > 1).
+
+Time limits are checked at every IAMP step; the first Parisi solve (a few seconds, then cached
+on disk), the statistics pass, the Lanczos check and the polish run to completion.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from typing import Any
+
+import numpy as np
+
+from spinward.core.registry import MEAN_FIELD_ASSUMPTION
+from spinward.core import CanonicalProblem, Capabilities, InputError, Solution, SolveContext, SolverSpec, hookimpl
+
+from . import diagnostics as diag
+from .iamp import Matvec, iamp, normalised, raw_matvec, with_ghost
+
+OPTIONS: dict[str, Any] = {
+    "solutions": "auto",     # independent IAMP runs sharing one Parisi solution; the best is returned
+    "delta": 0.005,          # variance of each increment (1/δ steps, one matvec each)
+    "parisi_k": 50,          # levels of the Parisi γ that drives IAMP
+    "project": 2,            # z is made orthogonal to this many latest inputs (0 = plain IAMP)
+    "spectrum_check": True,  # Lanczos estimate of the extreme eigenvalues of A (costs lanczos_steps matvecs)
+    "lanczos_steps": 16,
+    "coupling_std": None,    # the scale s, for a LinearOperator (else estimated from probes)
+    "probes": 8,             # Hutchinson probes for s when K is a LinearOperator
+    "polish_sweeps": 1000,   # low-temperature Metropolis sweeps after the clean-up (0 = none)
+}
+#: polish temperatures in units of A (T_c = 1 for SK): β runs linearly between these
+POLISH_BETAS = (2.0, 15.0)
+#: finite-size correction e_n ≈ P* − A·n^{−2/3}; A from memory (Boettcher 2005), an estimate
+FINITE_SIZE_A = 0.7
+FINITE_SIZE_SOURCE = ("e_n ≈ P* − A·n^(−2/3) with A ≈ 0.7 (from memory; Boettcher, Eur. Phys. J. B 46, 501 "
+                      "(2005), arXiv:cond-mat/0407130): an estimate, not a bound")
+#: "auto" runs: as many as cost one run at this size (a run costs ∝ n²), at most AUTO_MAX_RUNS
+AUTO_REFERENCE_N = 2000
+AUTO_MAX_RUNS = 4
+#: below this size the n → ∞ prediction is not reported
+MIN_PREDICTION_N = 100
+
+
+def _int_option(ctx: SolveContext, name: str, low: int, high: int) -> int:
+    value = ctx.option(name, OPTIONS[name])
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or not low <= value <= high:
+        raise InputError(f"option {name!r} must be an integer in [{low}, {high}], got {value!r}")
+    return int(value)
+
+
+def _runs_wanted(ctx: SolveContext, n: int) -> int:
+    """``solutions``; "auto" gives (2000/n)² runs, at most 4, at least 1.
+
+    Single runs at n ≤ 1000 fail now and then (measured: 1 seed in 5 ended at 0.742; best of
+    4 gave min 0.7495, mean 0.7542 over 5 seeds), while at n = 2000 extra runs gained nothing.
+    """
+    value = ctx.option("solutions", OPTIONS["solutions"])
+    if value == "auto":
+        return int(min(AUTO_MAX_RUNS, max(1, round((AUTO_REFERENCE_N / max(n, 1)) ** 2))))
+    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or not 1 <= value <= 10_000:
+        raise InputError(f"option 'solutions' must be 'auto' or an integer in [1, 10000], got {value!r}")
+    return int(value)
+
+
+def _delta(ctx: SolveContext) -> float:
+    value = ctx.option("delta", OPTIONS["delta"])
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not 1e-4 <= value <= 0.5:
+        raise InputError(f"option 'delta' must be a number in [1e-4, 0.5] (e.g. 0.005), got {value!r}")
+    return float(value)
+
+
+def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext) -> diag.CouplingStats:
+    """Moments of K's off-diagonal entries; with fields, of the ghost-augmented matrix."""
+    n = problem.n
+    if problem.kind == "dense":
+        stats = diag.dense_stats(problem.K, n)
+    elif problem.kind == "sparse":
+        stats = diag.sparse_stats(problem.K, n)
+    else:
+        std = ctx.option("coupling_std", None)
+        stats = diag.operator_stats(raw, n, ctx.rng, _int_option(ctx, "probes", 1, 1000),
+                                    None if std is None else float(std))
+    if problem.has_fields:
+        stats = _with_ghost_stats(stats, problem.b)
+    return stats
+
+
+def _with_ghost_stats(stats: diag.CouplingStats, b: np.ndarray) -> diag.CouplingStats:
+    n = stats.n
+    pairs, pairs2 = n * (n - 1), (n + 1) * n
+    total = stats.mean * pairs + 2 * float(b.sum())
+    squares = (stats.std**2 + stats.mean**2) * pairs + 2 * float(b @ b)
+    mean = total / pairs2
+    std = math.sqrt(max(squares / pairs2 - mean * mean, 0.0))
+    return diag.CouplingStats(n + 1, mean, std, stats.density, stats.excess_kurtosis, stats.max_abs_sigmas,
+                              stats.exact, list(stats.notes))
+
+
+def _sign(v: np.ndarray) -> np.ndarray:
+    return np.where(v >= 0, 1, -1).astype(np.int8)
+
+
+def _mean_part(mean: float, s: np.ndarray | int, n: int) -> float:
+    """½m((Σσ)² − n): the rank-one mean's share of ½σᵀKσ (s is σ, or Σσ for a balanced state)."""
+    total = float(np.sum(s, dtype=np.int64)) if isinstance(s, np.ndarray) else float(s)
+    return 0.5 * mean * (total * total - n)
+
+
+def _fluctuation_e(problem: CanonicalProblem, sigma: np.ndarray, value: float, stats: diag.CouplingStats) -> float:
+    """e = (C − k₀ − bᵀσ − mean part) / (s·n^{3/2}): the REFERENCES.md energy per spin."""
+    n = problem.n
+    rest = value - problem.k0 - float(problem.b @ sigma) - _mean_part(stats.mean, sigma, n)
+    return rest / (stats.std * n**1.5) if stats.std > 0 else float("nan")
+
+
+def polish(problem: CanonicalProblem, sigma: np.ndarray, stats: diag.CouplingStats, sweeps: int,
+           seed: int) -> tuple[np.ndarray, float]:
+    """Low-temperature single-flip Metropolis from ``sigma`` (β from 2 to 15 in units of A), then greedy.
+
+    The IAMP state sits in a good region; a short walk at T ≤ 0.5·T_c finds better nearby local
+    optima (measured +0.003 per spin at n = 1000–4000) at a cost of a few matvecs.
+    """
+    from spinward.plugins.common.flips import csr_parts, local_search
+
+    from . import _kernels as kern
+
+    s = np.asarray(sigma, dtype=np.float64).copy()
+    h = problem.local_fields(s)
+    betas = np.linspace(*POLISH_BETAS, sweeps) / (stats.std * np.sqrt(stats.n))
+    if problem.kind == "sparse":
+        kern.metropolis_csr(*csr_parts(problem), h, s, betas, seed)
+    else:
+        K = np.asarray(problem.K)
+        if K.dtype not in (np.float32, np.float64) or not K.flags.c_contiguous:
+            K = np.ascontiguousarray(K, dtype=np.float64)
+        kern.metropolis_dense(K, h, s, betas, seed)
+    return local_search(problem, s.astype(np.int8))
+
+
+def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx: SolveContext,
+             project: int, stats: diag.CouplingStats) -> dict[str, Any]:
+    from spinward.plugins.common.flips import local_search
+
+    start = time.perf_counter()
+    res = iamp(A, n_eff, tables, ctx.rng, project=project, should_stop=ctx.should_stop)
+    seconds = time.perf_counter() - start
+    rounded = _sign(res.m)
+    if n_eff > problem.n:  # ghost spin last: undo the gauge
+        rounded = (rounded[:-1] * rounded[-1]).astype(np.int8)
+    rounded_value = problem.value(rounded)
+    sigma, value = local_search(problem, rounded)
+    ctx.offer(sigma, value)
+    out = {"sigma": sigma, "value": value, "rounded": rounded, "rounded_value": rounded_value,
+           "cleaned": sigma, "cleaned_value": value, "steps": res.steps, "stopped": res.stopped,
+           "seconds": seconds, "polish_seconds": 0.0}
+    sweeps = _int_option(ctx, "polish_sweeps", 0, 10**7)
+    if sweeps and problem.kind != "operator" and not ctx.should_stop():
+        start = time.perf_counter()
+        seed = int(ctx.rng.integers(0, 2**31 - 1))
+        polished, pvalue = polish(problem, sigma, stats, sweeps, seed)
+        out["polish_seconds"] = time.perf_counter() - start
+        if pvalue > value:
+            out["sigma"], out["value"] = polished, pvalue
+            ctx.offer(polished, pvalue)
+    return out
+
+
+def _prediction(problem: CanonicalProblem, stats: diag.CouplingStats, pstar: float, best: dict) -> dict[str, Any]:
+    n = problem.n
+    fluct = stats.std * n**1.5
+    mean_part = _mean_part(stats.mean, n % 2, n) + problem.k0
+    e_n = pstar - FINITE_SIZE_A * n ** (-2.0 / 3.0)
+    e_best = _fluctuation_e(problem, best["sigma"], best["value"], stats)
+    return {"predicted_optimum": fluct * pstar + mean_part, "finite_size_estimate": fluct * e_n + mean_part,
+            "finite_size_source": FINITE_SIZE_SOURCE, "fraction_of_prediction": e_best / pstar,
+            "parisi_value": pstar}
+
+
+def _edges(A: Matvec, n_eff: int, ctx: SolveContext) -> tuple[float, float] | None:
+    if not ctx.option("spectrum_check", True):
+        return None
+    return diag.lanczos_extremes(A, n_eff, ctx.rng, _int_option(ctx, "lanczos_steps", 2, 500))
+
+
+def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    """IAMP runs (``solutions`` of them) sharing one Parisi solution; the best cleaned state is returned."""
+    from .parisi import load_tables
+
+    runs_wanted = _runs_wanted(ctx, problem.n)
+    steps = int(round(1.0 / _delta(ctx)))
+    project = _int_option(ctx, "project", 0, 16)
+    raw = raw_matvec(problem.K, problem.kind)
+    if problem.has_fields:
+        raw = with_ghost(raw, np.asarray(problem.b, dtype=np.float64))
+    stats = coupling_stats(problem, raw, ctx)
+    n_eff = stats.n
+    if problem.n < 2 or stats.std == 0:
+        from spinward.plugins.common.flips import local_search
+
+        sigma, _ = local_search(problem, np.ones(problem.n, dtype=np.int8))
+        ctx.warn("the couplings carry no disorder (all equal or n < 2): IAMP does not apply; returned a local optimum")
+        return Solution(sigma=sigma, info={"eligible": False})
+    A = normalised(raw, stats.mean, stats.std)
+    edges = _edges(A, n_eff, ctx)
+    notes, eligible = diag.findings(stats, edges, problem.has_fields)
+    for note in notes:
+        ctx.warn(note)
+    tables, cached = load_tables(_int_option(ctx, "parisi_k", 1, 200), steps)
+    runs = []
+    for _ in range(runs_wanted):
+        runs.append(_one_run(problem, A, n_eff, tables, ctx, project, stats))
+        if ctx.should_stop():
+            break
+    best = max(runs, key=lambda r: r["value"])
+    info = _info(problem, stats, edges, eligible, tables, cached, runs, best)
+    return Solution(sigma=best["sigma"], info=info)
+
+
+def _info(problem: CanonicalProblem, stats: diag.CouplingStats, edges: Any, eligible: bool, tables: Any,
+          cached: bool, runs: list[dict], best: dict) -> dict[str, Any]:
+    info: dict[str, Any] = {
+        "eligible": eligible, "coupling_mean": stats.mean, "coupling_std": stats.std,
+        "density": stats.density, "excess_kurtosis": stats.excess_kurtosis, "scale_exact": stats.exact,
+        "spectrum_edges": edges, "parisi_cached": cached, "iterations": best["steps"],
+        "iamp_seconds": [r["seconds"] for r in runs], "stopped_early": any(r["stopped"] for r in runs),
+        "energy_per_spin_rounded": _fluctuation_e(problem, best["rounded"], best["rounded_value"], stats),
+        "energy_per_spin_cleaned": _fluctuation_e(problem, best["cleaned"], best["cleaned_value"], stats),
+        "energy_per_spin": _fluctuation_e(problem, best["sigma"], best["value"], stats),
+        "polish_seconds": [r["polish_seconds"] for r in runs],
+        "energy_per_spin_runs": [_fluctuation_e(problem, r["sigma"], r["value"], stats) for r in runs],
+    }
+    if eligible and problem.n >= MIN_PREDICTION_N:
+        info.update(_prediction(problem, stats, tables.value, best))
+    if len(runs) > 1:
+        S = np.stack([r["sigma"] for r in runs]).astype(np.float64)
+        info["overlaps"] = (S @ S.T / problem.n).round(6).tolist()
+    return info
+
+
+def fit(profile: Any) -> float:
+    """First choice on dense mean-field inputs (after exact structure); weak elsewhere.
+
+    ``profile`` is the core's problem profile (spinward.core.profile.Profile).
+    """
+    kind = getattr(profile, "kind", None)
+    n = getattr(profile, "n", 0)
+    if kind == "operator" or (getattr(profile, "mean_field", False) and getattr(profile, "dense", False) and n >= 200):
+        return 50.0
+    if kind == "dense" and n >= 1000:
+        return 3.0
+    return 0.2
+
+
+SPEC = SolverSpec(
+    name="descent",
+    run=run,
+    capabilities=Capabilities(fields=True, dense=True, sparse=True, operator=True, stochastic=True,
+                              assumptions=(MEAN_FIELD_ASSUMPTION,
+                                           "no fields (else one extra spin absorbs them, without guarantee)")),
+    summary="IAMP driven by the zero-temperature Parisi solution, then single-flip clean-up",
+    options=OPTIONS,
+    fit=fit,
+)
+
+
+@hookimpl
+def spinward_solvers() -> list[SolverSpec]:
+    return [SPEC]

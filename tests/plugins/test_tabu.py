@@ -1,0 +1,186 @@
+"""Tabu search ("tabu"): brute-force optima, a plain reference walk, values recomputed, seeds, clock, SK energy.
+
+Everything runs at the canonical level: maximise C(σ) = ½σᵀKσ + bᵀσ + k₀.
+"""
+
+from __future__ import annotations
+
+import itertools
+import time
+
+import networkx as nx
+import numpy as np
+import pytest
+import scipy.sparse as sp
+
+from spinward.core import CanonicalProblem, InputError, SolveContext
+from spinward.plugins import tabu
+
+
+def brute_max(K: np.ndarray, b: np.ndarray, k0: float) -> float:
+    """max over all σ ∈ {±1}ⁿ of ½σᵀKσ + bᵀσ + k₀, by plain enumeration."""
+    S = np.array(list(itertools.product((-1.0, 1.0), repeat=len(b))))
+    return float(np.max(0.5 * np.einsum("ki,ij,kj->k", S, K, S) + S @ b + k0))
+
+
+def own_value(K: np.ndarray, b: np.ndarray, k0: float, sigma: np.ndarray) -> float:
+    s = np.asarray(sigma, dtype=np.float64)
+    return float(0.5 * s @ K @ s + b @ s + k0)
+
+
+def random_instance(rng: np.random.Generator, n: int) -> tuple[np.ndarray, np.ndarray, float]:
+    """Gaussian couplings of both signs on a random pattern, Gaussian fields, an offset."""
+    K = np.triu(rng.standard_normal((n, n)) * (rng.random((n, n)) < 0.6), 1)
+    return K + K.T, rng.standard_normal(n) * rng.random(), float(rng.normal())
+
+
+def solve(K, b, k0, seed=0, time_limit=None, **options):
+    problem = CanonicalProblem(K, np.asarray(b, dtype=np.float64), k0)
+    ctx = SolveContext(rng=np.random.default_rng(seed), time_limit=time_limit, options=options)
+    return tabu.SPEC.run(problem, ctx), ctx
+
+
+@pytest.mark.parametrize("options", [{"moves": 20_000, "start": "random"}, {"moves": 2_000, "restarts": 2}])
+@pytest.mark.parametrize("sparse", [False, True])
+def test_small_instances_reach_the_brute_force_optimum(options, sparse):
+    rng = np.random.default_rng(17)
+    misses = 0
+    for trial in range(12):
+        K, b, k0 = random_instance(rng, int(rng.integers(2, 14)))
+        opt = brute_max(K, b, k0)
+        sol, _ = solve(sp.csr_array(K) if sparse else K, b, k0, seed=trial, **options)
+        value = own_value(K, b, k0, sol.sigma)
+        assert value <= opt + 1e-9
+        misses += value < opt - 1e-9
+    assert misses <= 1  # a heuristic: "with high probability", not always
+
+
+def reference_walk(K: np.ndarray, sigma: np.ndarray, tenure: int, moves: int) -> list[int]:
+    """Plain one-flip tabu: best admissible gain; tabu for ``tenure`` moves; aspiration by the best value."""
+    s = sigma.copy()
+    tabu_until = np.zeros(len(s), dtype=int)
+    current = best = 0.5 * s @ K @ s
+    chosen = []
+    for move in range(moves):
+        gain = -2.0 * s * (K @ s)
+        admissible = (tabu_until <= move) | (current + gain > best + 1e-9)
+        i = int(np.argmax(np.where(admissible, gain, -np.inf)))
+        chosen.append(i)
+        current += gain[i]
+        best = max(best, current)
+        s[i] = -s[i]
+        tabu_until[i] = move + 1 + tenure
+    return chosen
+
+
+@pytest.mark.parametrize("sparse", [False, True])
+def test_kernel_walk_follows_the_plain_rule(sparse):
+    # Gaussian weights make ties impossible, and spread 0 fixes the tenure: the walk is then determined.
+    from spinward.plugins import _tabu_kernels as kern
+    from spinward.plugins.common.flips import csr_parts
+
+    rng = np.random.default_rng(1)
+    g = nx.convert_node_labels_to_integers(nx.grid_2d_graph(8, 8, periodic=True))
+    K = nx.to_numpy_array(g, weight=None) * np.triu(rng.standard_normal((64, 64)), 1)
+    K = K + K.T
+    start = np.where(rng.random(64) < 0.5, 1.0, -1.0)
+    expected = reference_walk(K, start, tenure=7, moves=300)
+    problem = CanonicalProblem(sp.csr_array(K) if sparse else K, np.zeros(64))
+    walk = tabu.Walk(problem, csr_parts(problem) if sparse else (K,), seed=5, tol=1e-9)
+    walk.start(start)
+    chosen = []
+    for _ in range(300):
+        before = walk.sigma.copy()
+        if sparse:
+            kern.tabu_csr(*walk.couplings, walk.sigma, walk.h, walk.gain, walk.tabu_until, walk.heaps, walk.poss,
+                          walk.queue, walk.best_sigma, walk.ints, walk.vals, walk.rng_state, 1, 7, 0, 10**9, 1e-9)
+        else:
+            kern.tabu_dense(K, walk.sigma, walk.h, walk.tabu_until, walk.best_sigma, walk.ints, walk.vals,
+                            walk.rng_state, 1, 7, 0, 10**9, 1e-9)
+        chosen.append(int(np.flatnonzero(before != walk.sigma)[0]))
+    assert chosen == expected
+
+
+def test_reported_state_is_valid_and_its_value_recomputed():
+    rng = np.random.default_rng(11)
+    K, b, k0 = random_instance(rng, 60)
+    sol, ctx = solve(sp.csr_array(K), b, k0, seed=3)
+    assert sol.sigma.dtype == np.int8 and set(np.unique(sol.sigma)) <= {-1, 1}
+    assert ctx.best_value == pytest.approx(own_value(K, b, k0, sol.sigma), abs=1e-9)
+    assert sol.info["finished"] is True
+    h = K @ sol.sigma + b
+    assert np.all(-2.0 * sol.sigma * h <= 1e-9)  # a 1-flip local optimum
+
+
+@pytest.mark.parametrize("sparse", [False, True])
+def test_same_seed_same_answer(sparse):
+    rng = np.random.default_rng(5)
+    K, b, k0 = random_instance(rng, 150)
+    K = sp.csr_array(K) if sparse else K
+    first, _ = solve(K, b, k0, seed=42, moves=30_000, restarts=2, start="random")
+    second, _ = solve(K, b, k0, seed=42, moves=30_000, restarts=2, start="random")
+    assert np.array_equal(first.sigma, second.sigma)
+    assert first.info == second.info
+    first, _ = solve(K, b, k0, seed=7, moves=10_000)  # with the anneal start
+    second, _ = solve(K, b, k0, seed=7, moves=10_000)
+    assert np.array_equal(first.sigma, second.sigma)
+    assert first.info == second.info
+
+
+@pytest.mark.parametrize("start", ["random", "anneal"])
+@pytest.mark.parametrize("sparse", [False, True])
+def test_time_limit_is_honoured_and_best_state_kept(sparse, start):
+    g = nx.random_regular_graph(3, 3000, seed=2)
+    K = nx.to_scipy_sparse_array(g, format="csr", dtype=np.float64)
+    K = K if sparse else K.toarray()
+    t0 = time.perf_counter()
+    sol, ctx = solve(K, np.zeros(3000), 0.0, seed=1, time_limit=0.5, start=start)
+    assert time.perf_counter() - t0 < 5.0  # generous: a clock check, not a speed test
+    assert sol.info["finished"] is False
+    dense = K.toarray() if sparse else K
+    assert ctx.best_value == pytest.approx(own_value(dense, np.zeros(3000), 0.0, sol.sigma))
+
+
+def test_bipartite_maxcut_cuts_every_edge():
+    # Reference: a bipartite graph with positive weights has MaxCut = total weight (elementary).
+    rng = np.random.default_rng(4)
+    g = nx.convert_node_labels_to_integers(nx.grid_2d_graph(20, 20))
+    W = nx.to_scipy_sparse_array(g, format="csr", dtype=np.float64)
+    W.data = rng.uniform(0.5, 2.0, W.nnz)
+    W = sp.csr_array(sp.triu(W, 1) + sp.triu(W, 1).T)
+    total = float(sp.triu(W, 1).sum())
+    # MaxCut in canonical form: K = −W/2, k₀ = total/2, so C(σ) = Σ_{i<j} w_ij [σ_i ≠ σ_j].
+    sol, _ = solve(-0.5 * W, np.zeros(400), total / 2, seed=2)
+    cut = sum(d for (i, j), d in zip(zip(*sp.triu(W, 1).nonzero()), sp.triu(W, 1).data) if sol.sigma[i] != sol.sigma[j])
+    assert cut == pytest.approx(total)
+
+
+def test_options_are_checked():
+    K, b, k0 = random_instance(np.random.default_rng(0), 5)
+    for bad in ({"moves": 0}, {"tenure": -1}, {"perturb": 0.0}, {"start": "greedy"}, {"stall": 0}):
+        with pytest.raises(InputError):
+            solve(K, b, k0, **bad)
+
+
+def test_sk_1000_reaches_the_expected_energy():
+    # e = H/n^{3/2}, H = Σ_{i<j} J_ij σ_i σ_j, J ~ N(0,1), canonical K = J.  Parisi P* = 0.7632 with
+    # finite-size correction ≈ −0.7·n^{-2/3} (REFERENCES: Crisanti & Rizzo 2002; Boettcher 2005; from memory)
+    # gives e_1000 ≈ 0.756; the default tabu budget should land within about 3% of it.
+    rng = np.random.default_rng(1)
+    n = 1000
+    J = np.triu(rng.standard_normal((n, n)), 1)
+    J = J + J.T
+    sol, _ = solve(J, np.zeros(n), 0.0, seed=1, start="random")  # plain tabu search, no anneal
+    e = own_value(J, np.zeros(n), 0.0, sol.sigma) / n**1.5
+    assert 0.735 <= e <= 0.7632 + 0.01
+
+
+def test_registers_through_the_hook_and_runs_with_declared_defaults():
+    from spinward.core import Registry
+
+    spec = Registry(["spinward.plugins.tabu"], autoload=False).get("tabu")
+    K, b, k0 = random_instance(np.random.default_rng(8), 10)
+    # the front door hands a solver every declared option, defaults included
+    ctx = SolveContext(rng=np.random.default_rng(0), time_limit=0.2, options=dict(spec.options))
+    sol = spec.run(CanonicalProblem(K, b, k0), ctx)
+    assert own_value(K, b, k0, sol.sigma) == pytest.approx(brute_max(K, b, k0))
