@@ -248,11 +248,17 @@ def _check_consistency(problem: CanonicalProblem, objective: float, canonical_va
 
 
 def _coupling_mass(problem: CanonicalProblem) -> float:
-    if problem.kind == "sparse":
-        return float(abs(problem.K).sum()) / 2
-    if problem.kind == "operator":
-        return 0.0 if problem.n == 0 else math.inf
-    return float(np.abs(problem.K).sum()) / 2
+    """Σ_{i<j} |K_ij|, computed once per problem in row blocks (no n² temporary)."""
+    cached = problem.meta.get("_abs_mass")
+    if cached is None:
+        if problem.kind == "sparse":
+            cached = float(abs(problem.K).sum()) / 2
+        elif problem.kind == "operator":
+            cached = 0.0 if problem.n == 0 else math.inf
+        else:
+            cached = math.fsum(float(np.abs(problem.K[s:s + 512]).sum()) for s in range(0, problem.n, 512)) / 2
+        problem.meta["_abs_mass"] = cached
+    return cached
 
 
 def _empty_result(form: ProblemForm, seed: int | None, notes: list[str], elapsed: float) -> Result:
