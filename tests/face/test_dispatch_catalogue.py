@@ -112,3 +112,29 @@ def test_torus_pm_j_reaches_published_energy():
     r = spinward.solve(spinward.Ising(J, {}), seed=0, time_limit=30.0, bound=False)
     assert r.solver in PORTFOLIO
     assert r.objective / L ** 2 <= -1.4017 * 0.99
+
+
+def test_dense_biased_qubo_goes_well(rng):
+    # A dense QUBO whose off-diagonal entries have mean 0.5: its diagonal is chosen so that the linear
+    # terms cancel in spin form, leaving couplings with a negative mean (a rank-one part favouring
+    # assignments with as many 1s as 0s).  Threshold derived as for the dense G(n, p) row of
+    # REFERENCES.md: C* ≈ k₀ + |m|·n/2 + s·n^{3/2}·P*, with the finite-size slack 0.735 in place of P*.
+    n = 600
+    Q = 0.5 + rng.normal(size=(n, n))
+    np.fill_diagonal(Q, 0.0)
+    np.fill_diagonal(Q, -(Q.sum(axis=1) + Q.sum(axis=0)) / 2)   # spin-form fields vanish
+    r = spinward.solve(spinward.QUBO(Q), seed=0)
+    assert r.solver in MEAN_FIELD
+    x = r.values.astype(float)
+    assert r.objective == pytest.approx(x @ Q @ x)
+    assert abs(x.sum() - n / 2) <= 0.05 * n                       # balanced, as the warning says
+    assert any("as many 1s as 0s" in w for w in r.warnings)
+    # canonical couplings written out here: K = −(Q + Qᵀ)/4 off the diagonal, k₀ = −(Σ diag/2 + Σ off/4)
+    S = (Q + Q.T) / 2
+    off = S - np.diag(np.diag(S))
+    K = -off / 2
+    pairs = K[np.triu_indices(n, 1)]
+    m, s = pairs.mean(), pairs.std()
+    k0 = -(np.trace(S) / 2 + off.sum() / 4)
+    reached = -r.objective                                        # C = −f for a QUBO
+    assert reached >= k0 + abs(m) * n / 2 + s * n ** 1.5 * 0.735
