@@ -52,7 +52,6 @@ FINITE_SIZE_SOURCE = ("e_n ≈ P* − A·n^(−2/3) with A ≈ 0.7 (from memory;
 #: "auto" runs: as many as cost one run at this size (a run costs ∝ n²), at most AUTO_MAX_RUNS
 AUTO_REFERENCE_N = 2000
 AUTO_MAX_RUNS = 4
-AUTO_PAIR_UP_TO = 5000  # best of two runs up to this size
 #: below this size the n → ∞ prediction is not reported
 MIN_PREDICTION_N = 100
 
@@ -65,17 +64,16 @@ def _int_option(ctx: SolveContext, name: str, low: int, high: int) -> int:
 
 
 def _runs_wanted(ctx: SolveContext, n: int) -> int:
-    """``solutions``; "auto" gives (2000/n)² runs (at most 4) up to n = 1000, 2 up to n = 5000, then 1.
+    """``solutions``; "auto" gives (2000/n)² runs, at most 4, at least 1.
 
     Single runs at n ≤ 1000 fail now and then (measured: 1 seed in 5 ended at 0.742; best of
-    4 gave min 0.7495, mean 0.7542 over 5 seeds).  At n = 4000 the best of 2 runs raised the
-    mean over 5 seeds from 0.7575 to 0.7584 for about 0.9 s more (2.55 s in all).
+    4 gave min 0.7495, mean 0.7542 over 5 seeds).  Extra runs did not pay at larger n: best of
+    two at n = 2000 gave 0.7555 against 0.7553, and at n = 4000 0.7577 against 0.7575 on the
+    benchmark's instances, for about 1.7× the time.
     """
     value = ctx.option("solutions", OPTIONS["solutions"])
     if value == "auto":
-        if n > AUTO_PAIR_UP_TO:
-            return 1
-        return int(min(AUTO_MAX_RUNS, max(2, round((AUTO_REFERENCE_N / max(n, 1)) ** 2))))
+        return int(min(AUTO_MAX_RUNS, max(1, round((AUTO_REFERENCE_N / max(n, 1)) ** 2))))
     if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or not 1 <= value <= 10_000:
         raise InputError(f"option 'solutions' must be 'auto' or an integer in [1, 10000], got {value!r}")
     return int(value)
