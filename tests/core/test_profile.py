@@ -69,3 +69,14 @@ def test_lanczos_matches_eigh(rng):
     A = rng.normal(size=(60, 60)); A = A + A.T
     ritz = lanczos_ritz(lambda x: A @ x, 60, steps=60)
     np.testing.assert_allclose(ritz[:3], np.sort(np.linalg.eigvalsh(A))[::-1][:3], rtol=1e-8)
+
+
+def test_dense_with_zero_couplings(rng):
+    g = nx.gnp_random_graph(300, 0.5, seed=6)
+    p = profile_of(spinward.canonical(g))
+    assert p.components == 1 and not p.frustration_free          # unit MaxCut: every triangle frustrated
+    two = nx.disjoint_union(nx.gnp_random_graph(150, 0.6, seed=7), nx.gnp_random_graph(150, 0.6, seed=8))
+    assert profile_of(spinward.canonical(two)).components == nx.number_connected_components(two)
+    J = np.triu(np.abs(rng.normal(size=(200, 200))) * (rng.random((200, 200)) < 0.5), 1)
+    p = profile_of(spinward.canonical(spinward.Ising(J)))
+    assert p.frustration_free and p.ferromagnetic                 # all couplings ≥ 0: nothing to frustrate
