@@ -49,7 +49,7 @@ class Profile:
     has_fields: bool
     ferromagnetic: bool          # every K_ij ≥ 0 (canonical sign: favours alignment)
     frustration_free: bool       # a gauge makes every coupling ferromagnetic
-    degeneracy: int | None       # a lower bound on treewidth
+    degeneracy: int | None       # a lower bound on treewidth (⌈m/n⌉ when that alone exceeds the DP limit)
     treewidth: int | None        # heuristic upper bound (None when not estimated)
     top_eigenvalues: tuple[float, ...] = ()   # of A (dense inputs only)
     mean_outlier: float = 0.0    # m√n/s: the rank-one part's eigenvalue on the A scale
@@ -249,6 +249,9 @@ def _treewidth(n: int, rows: np.ndarray, cols: np.ndarray, budget: float, densit
         return 0, 0
     if density >= DENSE_FILL and n > 64:
         return None, None
+    average = -(-len(rows) // n)  # ⌈m/n⌉ ≤ degeneracy ≤ treewidth, free to compute
+    if average > TREEWIDTH_GIVE_UP:
+        return int(average), None
     import networkx as nx
 
     g = nx.Graph()
