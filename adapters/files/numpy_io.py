@@ -7,8 +7,6 @@ A .npy holds one square matrix.  A .npz is either a scipy.sparse archive
 
 from __future__ import annotations
 
-import zipfile
-import zlib
 from pathlib import Path
 from typing import Any
 
@@ -17,8 +15,10 @@ import numpy as np
 from spinward.core.errors import FileFormatError
 
 SPARSE_KEYS = {"format", "shape", "data"}
-#: what numpy and zipfile raise on damaged files
-DAMAGED = (ValueError, OSError, EOFError, KeyError, TypeError, zipfile.BadZipFile, zlib.error)
+#: numpy's header parser and zipfile raise many kinds of error on damaged input (ValueError, EOFError,
+#: BadZipFile, zlib.error, SyntaxError and tokenize errors from the header, RuntimeError for encrypted
+#: members...): any of them means the file cannot be read as a numeric array without pickle.
+DAMAGED = (Exception,)
 
 
 def read_npy(p: Path) -> np.ndarray:
