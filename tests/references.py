@@ -75,3 +75,22 @@ def milp_maxcut(n: int, edges: list[tuple[int, int, float]]) -> float:
                bounds=Bounds(0, 1), options={"mip_rel_gap": 0})
     assert res.status == 0, res.message
     return -float(res.fun)
+
+
+# Canonical-level references (maximise ½σᵀKσ + bᵀσ + k₀), shared by the heuristic plugins' tests.
+
+def brute_max(K: np.ndarray, b: np.ndarray, k0: float) -> float:
+    """max over all σ ∈ {±1}ⁿ of ½σᵀKσ + bᵀσ + k₀, by plain enumeration."""
+    S = np.array(list(itertools.product((-1.0, 1.0), repeat=len(b))))
+    return float(np.max(0.5 * np.einsum("ki,ij,kj->k", S, K, S) + S @ b + k0))
+
+
+def own_value(K: np.ndarray, b: np.ndarray, k0: float, sigma: np.ndarray) -> float:
+    s = np.asarray(sigma, dtype=np.float64)
+    return float(0.5 * s @ K @ s + b @ s + k0)
+
+
+def random_instance(rng: np.random.Generator, n: int) -> tuple[np.ndarray, np.ndarray, float]:
+    """Gaussian couplings of both signs on a random pattern, Gaussian fields, an offset."""
+    K = np.triu(rng.standard_normal((n, n)) * (rng.random((n, n)) < 0.6), 1)
+    return K + K.T, rng.standard_normal(n) * rng.random(), float(rng.normal())

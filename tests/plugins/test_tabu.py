@@ -5,7 +5,6 @@ Everything runs at the canonical level: maximise C(σ) = ½σᵀKσ + bᵀσ + k
 
 from __future__ import annotations
 
-import itertools
 import time
 
 import networkx as nx
@@ -14,24 +13,8 @@ import pytest
 import scipy.sparse as sp
 
 from spinward.core import CanonicalProblem, InputError, SolveContext
+from tests.references import brute_max, own_value, random_instance
 from spinward.plugins import tabu
-
-
-def brute_max(K: np.ndarray, b: np.ndarray, k0: float) -> float:
-    """max over all σ ∈ {±1}ⁿ of ½σᵀKσ + bᵀσ + k₀, by plain enumeration."""
-    S = np.array(list(itertools.product((-1.0, 1.0), repeat=len(b))))
-    return float(np.max(0.5 * np.einsum("ki,ij,kj->k", S, K, S) + S @ b + k0))
-
-
-def own_value(K: np.ndarray, b: np.ndarray, k0: float, sigma: np.ndarray) -> float:
-    s = np.asarray(sigma, dtype=np.float64)
-    return float(0.5 * s @ K @ s + b @ s + k0)
-
-
-def random_instance(rng: np.random.Generator, n: int) -> tuple[np.ndarray, np.ndarray, float]:
-    """Gaussian couplings of both signs on a random pattern, Gaussian fields, an offset."""
-    K = np.triu(rng.standard_normal((n, n)) * (rng.random((n, n)) < 0.6), 1)
-    return K + K.T, rng.standard_normal(n) * rng.random(), float(rng.normal())
 
 
 def solve(K, b, k0, seed=0, time_limit=None, **options):
