@@ -18,7 +18,7 @@ from typing import Any, Iterator
 
 import numpy as np
 
-from .errors import AssumptionWarning, SpinwardWarning
+from .errors import AssumptionWarning
 
 
 def make_seed(seed: int | np.random.Generator | None) -> tuple[int | None, np.random.Generator]:
@@ -121,6 +121,3 @@ def interrupt_guard(ctx: SolveContext) -> Iterator[None]:
     finally:
         signal.signal(signal.SIGINT, previous)
 
-
-def warn_spinward(message: str, category: type[Warning] = SpinwardWarning, stacklevel: int = 3) -> None:
-    warnings.warn(message, category, stacklevel=stacklevel)

@@ -35,30 +35,19 @@ def check_time_limit(time_limit: Any) -> float | None:
 
 
 def pick_spec(method: str | Callable[..., Any] | SolverSpec, problem: CanonicalProblem,
-              registry: Registry, chooser: Callable[[CanonicalProblem, Registry], SolverSpec] | None) -> SolverSpec:
-    """Resolve ``method`` to a spec: a spec, a callable, a registered name, or "auto"."""
+              registry: Registry) -> SolverSpec:
+    """Resolve ``method`` (not "auto") to a spec: a spec, a callable, or a registered name."""
     if isinstance(method, SolverSpec):
         return method
     if callable(method):
         return callable_spec(method)
     if not isinstance(method, str):
         raise InputError(f"method must be a solver name or a callable, got {method!r}")
-    if method == "auto":
-        return (chooser or choose_by_fit)(problem, registry)
     spec = registry.get(method)
     verdict = spec.can_run(problem)
     if verdict is not True:
         raise SolverUnsuitableError(f"method {method!r} cannot run on this problem: {verdict}")
     return spec
-
-
-def choose_by_fit(problem: CanonicalProblem, registry: Registry) -> SolverSpec:
-    """The runnable solver with the highest fit score."""
-    ranked = registry.rank(problem)
-    if not ranked:
-        reasons = "; ".join(f"{k}: {v}" for k, v in registry.verdicts(problem).items())
-        raise SolverUnsuitableError(f"no registered solver can run on this problem ({reasons})")
-    return ranked[0][1]
 
 
 def split_options(spec: SolverSpec, options: dict[str, Any]) -> tuple[dict[str, Any], dict[str, Any]]:
@@ -71,8 +60,14 @@ def split_options(spec: SolverSpec, options: dict[str, Any]) -> tuple[dict[str, 
         if unknown:
             warnings.warn(f"solver {spec.name!r} ignores unknown option(s) {', '.join(map(repr, unknown))}; "
                           f"it accepts: {', '.join(sorted(accepted)) or 'none'}", OptionWarning, stacklevel=4)
-        own = {k: v for k, v in own.items() if k in accepted}
-    return {**{k: v for k, v in spec.options.items() if k != "*"}, **own}, common
+    return with_defaults(spec, own), common
+
+
+def with_defaults(spec: SolverSpec, options: dict[str, Any]) -> dict[str, Any]:
+    """The options ``spec`` accepts from ``options``, over its declared defaults."""
+    accepted = set(spec.options)
+    own = options if "*" in accepted else {k: v for k, v in options.items() if k in accepted}
+    return {**{k: v for k, v in spec.options.items() if k != "*"}, **own}
 
 
 def run_spec(spec: SolverSpec, problem: CanonicalProblem, ctx: SolveContext) -> Solution:
@@ -159,9 +154,7 @@ def _run_provider(provider: Any, problem: CanonicalProblem, seconds: float, log:
 
 
 def solve_form(form: ProblemForm, *, registry: Registry, method: Any = "auto", time_limit: float | None = None,
-               seed: int | np.random.Generator | None = None,
-               chooser: Callable[[CanonicalProblem, Registry], SolverSpec] | None = None,
-               **options: Any) -> Result:
+               seed: int | np.random.Generator | None = None, **options: Any) -> Result:
     """Solve ``form`` with ``method``; see :func:`spinward.solve` for the public contract."""
     limit = check_time_limit(time_limit)
     seed_value, rng = make_seed(seed)
@@ -171,7 +164,7 @@ def solve_form(form: ProblemForm, *, registry: Registry, method: Any = "auto", t
     if problem.n == 0:
         return _empty_result(form, seed_value, notes, time.perf_counter() - t0)
     ctx = SolveContext(rng=rng, seed=seed_value, time_limit=limit, start=t0)
-    if method == "auto" and chooser is None:
+    if isinstance(method, str) and method == "auto":
         from .portfolio import solve_auto
 
         common = {k: options.pop(k, v) for k, v in COMMON_OPTIONS.items()}
@@ -179,7 +172,7 @@ def solve_form(form: ProblemForm, *, registry: Registry, method: Any = "auto", t
                              bound_share=float(common["bound_share"]))
         return build_result(form, problem, outcome.spec, outcome.solution, ctx, notes, outcome.bound,
                             outcome.info(common["explain"]))
-    spec = pick_spec(method, problem, registry, chooser)
+    spec = pick_spec(method, problem, registry)
     own, common = split_options(spec, options)
     ctx.options = own
     if limit is not None and common["bound"]:  # the bound's share comes out of the caller's limit

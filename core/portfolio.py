@@ -20,7 +20,7 @@ from .context import SolveContext, interrupt_guard
 from .decompose import assemble, connected_components, subproblem
 from .dispatch import Choice, choose, mean_part_warning
 from .errors import OptionWarning
-from .frontdoor import attach_bound, run_spec
+from .frontdoor import attach_bound, run_spec, with_defaults
 from .profile import profile_of
 from .registry import MEAN_FIELD_ASSUMPTION, Bound, Registry, Solution, SolverSpec
 
@@ -123,8 +123,7 @@ def _run_step(spec: SolverSpec, sub: CanonicalProblem, ctx: SolveContext, option
 
     ``whole`` says the part is the whole problem, so its trace is the parent's trace.
     """
-    own = {k: v for k, v in options.items() if k in spec.options}
-    own = {**{k: v for k, v in spec.options.items() if k != "*"}, **own}
+    own = with_defaults(spec, options)
     if initial is not None:
         own["initial"] = initial
     step = SolveContext(rng=ctx.rng, seed=ctx.seed, time_limit=part_end, options=own, start=ctx.start)

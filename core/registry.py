@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import importlib
 import re
-import math
 import os
 from dataclasses import dataclass, field
 from types import MappingProxyType
@@ -209,13 +208,6 @@ class Registry:
     def verdicts(self, problem: CanonicalProblem) -> dict[str, "bool | str"]:
         """Every solver's answer to ``can_run(problem)``."""
         return {name: spec.can_run(problem) for name, spec in self.solvers().items()}
-
-    def rank(self, problem: CanonicalProblem, scored: Any = None) -> list[tuple[float, SolverSpec]]:
-        """Runnable solvers, best fit first (ties by name for determinism)."""
-        subject = problem if scored is None else scored
-        ok = [(spec.score(subject), spec) for spec in self.solvers().values() if spec.can_run(problem) is True]
-        ok = [(s, spec) for s, spec in ok if math.isfinite(s)]
-        return sorted(ok, key=lambda t: (-t[0], t[1].name))
 
 
 class _SinglePlugin:

@@ -94,3 +94,20 @@ def random_instance(rng: np.random.Generator, n: int) -> tuple[np.ndarray, np.nd
     """Gaussian couplings of both signs on a random pattern, Gaussian fields, an offset."""
     K = np.triu(rng.standard_normal((n, n)) * (rng.random((n, n)) < 0.6), 1)
     return K + K.T, rng.standard_normal(n) * rng.random(), float(rng.normal())
+
+
+def heuristic_misses(solve, options: dict, *, sparse: bool, seed: int, trials: int = 12) -> int:
+    """How often ``solve(K, b, k0, seed=trial, **options)`` misses the brute-force optimum on small
+    random instances (n from 2 to 13); also asserts it never reports more than the optimum."""
+    import scipy.sparse as sp
+
+    rng = np.random.default_rng(seed)
+    misses = 0
+    for trial in range(trials):
+        K, b, k0 = random_instance(rng, int(rng.integers(2, 14)))
+        opt = brute_max(K, b, k0)
+        sol, _ = solve(sp.csr_array(K) if sparse else K, b, k0, seed=trial, **options)
+        value = own_value(K, b, k0, sol.sigma)
+        assert value <= opt + 1e-9
+        misses += value < opt - 1e-9
+    return misses

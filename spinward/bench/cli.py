@@ -1,8 +1,8 @@
 """The ``bench`` and ``report`` commands.  Only argparse at import; the harness loads inside each command.
 
 ``add_bench_parser(subparsers)`` and ``add_report_parser(subparsers)`` add them to
-the ``spinward`` command line (each sets ``func`` on its namespace); ``main``
-runs them on their own: ``python -m spinward.bench.cli bench SUITE.toml --db results.sqlite``.
+the ``spinward`` command line (each sets ``func`` on its namespace); ``main`` hands
+``python -m spinward.bench.cli bench SUITE.toml --db results.sqlite`` to the ``spinward`` command.
 """
 
 from __future__ import annotations
@@ -97,28 +97,11 @@ def cmd_report(args: argparse.Namespace) -> int:
     return 0
 
 
-def build_parser() -> argparse.ArgumentParser:
-    parser = argparse.ArgumentParser(prog="spinward", description="Benchmark suites and their reports.")
-    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
-    add_bench_parser(sub)
-    add_report_parser(sub)
-    return parser
-
-
 def main(argv: Sequence[str] | None = None) -> int:
-    """Run ``bench`` or ``report`` on their own (the same as through ``spinward``)."""
-    from spinward.core.errors import SpinwardError
+    """``python -m spinward.bench.cli bench|report ...``: the same as ``spinward bench|report ...``."""
+    from spinward.cli import main as spinward_main
 
-    parser = build_parser()
-    args = parser.parse_args(argv)
-    if not getattr(args, "func", None):
-        parser.print_help()
-        return 2
-    try:
-        return int(args.func(args))
-    except SpinwardError as exc:
-        sys.stderr.write(f"spinward: error: {exc}\n")
-        return 2
+    return spinward_main(argv)
 
 
 if __name__ == "__main__":

@@ -111,14 +111,7 @@ name = "local"
 
 
 def bench_command() -> list[str]:
-    """``python -m spinward bench`` once the lead has wired it in, else the harness's own entry point."""
-    from spinward.cli import build_parser
-
-    try:
-        build_parser().parse_args(["bench", "x.toml", "--db", "x.sqlite"])
-        return [sys.executable, "-m", "spinward", "bench"]
-    except SystemExit:
-        return [sys.executable, "-m", "spinward.bench.cli", "bench"]
+    return [sys.executable, "-m", "spinward", "bench"]
 
 
 def stored(db: Path) -> list[tuple]:

@@ -13,7 +13,7 @@ import pytest
 import scipy.sparse as sp
 
 from spinward.core import CanonicalProblem, InputError, SolveContext
-from tests.references import brute_max, own_value, random_instance
+from tests.references import brute_max, heuristic_misses, own_value, random_instance
 from spinward.plugins import tabu
 
 
@@ -26,16 +26,8 @@ def solve(K, b, k0, seed=0, time_limit=None, **options):
 @pytest.mark.parametrize("options", [{"moves": 20_000, "start": "random"}, {"moves": 2_000, "restarts": 2}])
 @pytest.mark.parametrize("sparse", [False, True])
 def test_small_instances_reach_the_brute_force_optimum(options, sparse):
-    rng = np.random.default_rng(17)
-    misses = 0
-    for trial in range(12):
-        K, b, k0 = random_instance(rng, int(rng.integers(2, 14)))
-        opt = brute_max(K, b, k0)
-        sol, _ = solve(sp.csr_array(K) if sparse else K, b, k0, seed=trial, **options)
-        value = own_value(K, b, k0, sol.sigma)
-        assert value <= opt + 1e-9
-        misses += value < opt - 1e-9
-    assert misses <= 1  # a heuristic: "with high probability", not always
+    # reference: brute force over all states (tests/references.py)
+    assert heuristic_misses(solve, options, sparse=sparse, seed=17) <= 1  # "with high probability", not always
 
 
 def reference_walk(K: np.ndarray, sigma: np.ndarray, tenure: int, moves: int) -> list[int]:
