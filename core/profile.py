@@ -223,11 +223,15 @@ def _signed_structure(n: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarr
     G = sp.coo_array((sign, (rows, cols)), shape=(n, n)).tocsr()
     G = sp.csr_array(G + G.T)
     count, label = connected_components(G, directed=False)
-    tau = np.zeros(n, dtype=np.int8)
-    for root in np.unique(label, return_index=True)[1]:
-        order, pred = breadth_first_order(G, int(root), directed=False, return_predecessors=True)
-        tau[root] = 1
-        _propagate(G, order, pred, tau)
+    # one breadth-first sweep from a virtual node n joined (sign +) to every component's first spin
+    roots = np.unique(label, return_index=True)[1]
+    link = sp.coo_array((np.ones(len(roots)), (np.full(len(roots), n), roots)), shape=(n + 1, n + 1))
+    H = sp.csr_array(sp.block_diag([G, sp.csr_array((1, 1))]) + link + link.T)
+    order, pred = breadth_first_order(H, n, directed=False, return_predecessors=True)
+    tau = np.zeros(n + 1, dtype=np.int8)
+    tau[n] = 1
+    _propagate(H, order, pred, tau)
+    tau = tau[:n]
     balanced = bool(np.all(tau[rows] * tau[cols] * sign > 0))
     return int(count), balanced
 
