@@ -26,13 +26,13 @@ import numpy as np
 
 from spinward.core import Capabilities, CanonicalProblem, InputError, Solution, SolveContext, SolverSpec, hookimpl
 
+from .common.couplings import working_couplings
 from .common.flips import csr_parts, local_search, random_spins
 
 SCHEDULES = ("linear", "geometric")
 DEFAULT_SWEEPS = 1000
 RULES = {"metropolis": 0, "heat-bath": 1}
 DEFAULT_BETA_RANGE = (0.2, 8.0)
-FLOAT32_COPY_LIMIT = 1 << 30  # bytes; above this the dense K is used as given (no working copy)
 CHUNK_SECONDS = 0.05          # target time between clock checks
 OFFER_SECONDS = 1.0           # hand the incumbent to the core at least this often
 FIT_SHARE = 0.8               # share of the time left that the next schedule may use
@@ -106,26 +106,6 @@ def make_plan(problem: CanonicalProblem, ctx: SolveContext) -> Plan:
     scale = coupling_scale(problem)
     betas = beta_schedule(schedule, float(lo) / scale, float(hi) / scale, sweeps)
     return Plan(sweeps, int(restarts), betas, RULES[rule], schedule)
-
-
-def working_couplings(problem: CanonicalProblem, precision: str, who: str = "anneal") -> tuple[Any, ...]:
-    """Arguments that describe K to the kernel: (K,) dense or (indptr, indices, data) CSR.
-
-    A float32 working copy halves the memory traffic of the O(n) row updates; the
-    values reported are always recomputed from the caller's K.
-    """
-    if precision not in ("auto", "float32", "float64"):
-        raise InputError(f"{who}: precision must be 'auto', 'float32' or 'float64', got {precision!r}")
-    if problem.kind == "sparse":
-        return csr_parts(problem)
-    K = problem.K
-    small = problem.n * problem.n * 4 <= FLOAT32_COPY_LIMIT
-    want = np.float32 if precision == "float32" or (precision == "auto" and small) else np.float64
-    if precision == "auto" and K.dtype == np.float32:
-        want = np.float32
-    if K.dtype != want or not K.flags.c_contiguous:
-        K = np.ascontiguousarray(K, dtype=want)
-    return (K,)
 
 
 class Annealer:

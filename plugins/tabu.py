@@ -35,7 +35,8 @@ import numpy as np
 
 from spinward.core import Capabilities, CanonicalProblem, InputError, Solution, SolveContext, SolverSpec, hookimpl
 
-from .annealing import coupling_scale, working_couplings
+from .annealing import coupling_scale
+from .common.couplings import working_couplings
 from .common.flips import local_search, random_spins
 
 CHUNK_SECONDS = 0.05

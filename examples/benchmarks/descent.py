@@ -5,11 +5,14 @@ C(σ) = ½σᵀKσ = H(σ) = n^{-1/2} Σ_{i<j} J_ij σ_i σ_j (shared/REFERENCES
 and e = H/n; P* = 0.7631667 (from memory).  n = 8000 uses float32 couplings.
 
 Reports per run: e after sign rounding, after greedy clean-up and after the polish, wall time,
-IAMP time per iteration divided by the time of one matvec, and peak traced memory; then a fit
+IAMP time per iteration divided by the time of one matvec, and peak traced memory (measured in
+a second, untimed run of the first seed: tracing slows numpy's allocations); then a fit
 e(n) = e∞ − A·n^{−2/3}, and simulated annealing on the same n = 4000 instances for the same wall
 time (and for 2× and 4× of it, to bracket the time ratio at equal energy).
 
-Timings are taken on a shared machine: read the ratios, not the seconds.
+The solver computes in float32 by default (option precision="auto"); the dtype column is the
+input's.  Kernels are loaded by a warm-up solve before any timing.  Timings are taken on a shared
+machine: read the ratios, not the seconds.
 
 Usage: python examples/benchmarks/descent.py [--sizes 1000 2000 4000 8000] [--seeds 5] [--out PATH]
 """
@@ -35,6 +38,7 @@ import numpy as np
 
 from spinward.core import AssumptionWarning, CanonicalProblem, SolveContext
 from spinward.plugins.descent import SPEC as DESCENT
+from spinward.plugins.descent import working_precision
 from spinward.plugins.descent.iamp import normalised, raw_matvec
 from spinward.plugins.descent.parisi import PSTAR_REFERENCE, load_tables
 
@@ -53,9 +57,11 @@ def sk_problem(n: int, seed: int, pm1: bool = False, dtype: Any = np.float64) ->
     return CanonicalProblem(K, np.zeros(n))
 
 
-def time_matvec(problem: CanonicalProblem, repeats: int = 15) -> float:
-    """Median seconds of the normalised matvec exactly as the solver calls it."""
-    A = normalised(raw_matvec(problem.K, problem.kind), 0.0, 1.0 / math.sqrt(problem.n))
+def time_matvec(problem: CanonicalProblem, options: dict[str, Any], repeats: int = 15) -> float:
+    """Median seconds of the normalised matvec exactly as the solver calls it (its working precision)."""
+    couplings, dtype = working_precision(problem, SolveContext(rng=np.random.default_rng(0), options=dict(options)))
+    K = couplings[0] if problem.kind == "dense" else problem.K
+    A = normalised(raw_matvec(K, problem.kind, dtype), 0.0, 1.0 / math.sqrt(problem.n))
     x = np.random.default_rng(0).standard_normal(problem.n)
     times = []
     for _ in range(repeats):
@@ -65,23 +71,32 @@ def time_matvec(problem: CanonicalProblem, repeats: int = 15) -> float:
     return float(np.median(times))
 
 
-def run_descent(problem: CanonicalProblem, seed: int, options: dict[str, Any]) -> dict[str, Any]:
+def run_descent(problem: CanonicalProblem, seed: int, options: dict[str, Any], trace_memory: bool = False
+                ) -> dict[str, Any]:
+    """One timed run; with ``trace_memory`` a second, untimed run of the same seed measures peak memory."""
+    sol, ctx, wall = _solve(problem, seed, options)
+    n = problem.n
+    info = sol.info
+    t_iter = info["iamp_seconds"][0] / max(info["iterations"], 1)
+    peak = None
+    if trace_memory:
+        tracemalloc.start()
+        _solve(problem, seed, options)
+        peak = tracemalloc.get_traced_memory()[1] / 2**20
+        tracemalloc.stop()
+    return {"e_rounded": info["energy_per_spin_rounded"], "e_cleaned": info["energy_per_spin_cleaned"],
+            "e_final": problem.value(sol.sigma) / n, "wall_s": wall, "iamp_s": info["iamp_seconds"][0],
+            "polish_s": info["polish_seconds"][0], "iterations": info["iterations"], "t_iter_s": t_iter,
+            "peak_mb": peak, "warnings": list(ctx.warnings)}
+
+
+def _solve(problem: CanonicalProblem, seed: int, options: dict[str, Any]) -> tuple[Any, SolveContext, float]:
     ctx = SolveContext(rng=np.random.default_rng(seed), options=dict(options))
-    tracemalloc.start()
     t0 = time.perf_counter()
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", AssumptionWarning)
         sol = DESCENT.run(problem, ctx)
-    wall = time.perf_counter() - t0
-    peak = tracemalloc.get_traced_memory()[1]
-    tracemalloc.stop()
-    n = problem.n
-    info = sol.info
-    t_iter = info["iamp_seconds"][0] / max(info["iterations"], 1)
-    return {"e_rounded": info["energy_per_spin_rounded"], "e_cleaned": info["energy_per_spin_cleaned"],
-            "e_final": problem.value(sol.sigma) / n, "wall_s": wall, "iamp_s": info["iamp_seconds"][0],
-            "polish_s": info["polish_seconds"][0], "iterations": info["iterations"], "t_iter_s": t_iter,
-            "peak_mb": peak / 2**20, "warnings": list(ctx.warnings)}
+    return sol, ctx, time.perf_counter() - t0
 
 
 def fit_finite_size(ns: list[int], es: list[float]) -> dict[str, float] | None:
@@ -133,6 +148,9 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
     ap.add_argument("--delta", type=float, default=0.005)
     ap.add_argument("--sa-multipliers", type=float, nargs="+", default=[1.0, 2.0, 4.0])
     ap.add_argument("--no-sa", action="store_true")
+    ap.add_argument("--no-pm1", action="store_true", help="skip the ±1 couplings at n = 4000")
+    ap.add_argument("--option", action="append", default=[], metavar="KEY=VALUE",
+                    help="extra descent option (value parsed as JSON, else kept as text)")
     ap.add_argument("--out", default="bench-out/descent.json")
     ap.add_argument("--fresh-cache", action="store_true", help="time the first Parisi solve in a new cache dir")
     args = ap.parse_args(argv)
@@ -140,22 +158,29 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
         import tempfile
 
         os.environ["SPINWARD_CACHE_DIR"] = tempfile.mkdtemp(prefix="spinward-cache-")
-    options = {"delta": args.delta}
+    options: dict[str, Any] = {"delta": args.delta}
+    for item in args.option:
+        key, _, text = item.partition("=")
+        try:
+            options[key] = json.loads(text)
+        except json.JSONDecodeError:
+            options[key] = text
     t0 = time.perf_counter()
     load_tables(50, int(round(1 / args.delta)))  # first solve (cached on later runs)
     parisi_first = time.perf_counter() - t0
     t0 = time.perf_counter()
     load_tables(50, int(round(1 / args.delta)))
     parisi_cached = time.perf_counter() - t0
+    warm_up(options)
     runs: list[dict[str, Any]] = []
-    cases = [(n, False) for n in args.sizes] + ([(4000, True)] if 4000 in args.sizes else [])
+    cases = [(n, False) for n in args.sizes] + ([(4000, True)] if 4000 in args.sizes and not args.no_pm1 else [])
     for n, pm1 in cases:
         dtype = np.float32 if n >= 8000 else np.float64
         for seed in range(args.seeds):
             problem = sk_problem(n, 1000 * n + seed + (500 if pm1 else 0), pm1, dtype)
-            t_mv = time_matvec(problem)
+            t_mv = time_matvec(problem, options)
             rec = {"n": n, "couplings": "pm1" if pm1 else "gauss", "dtype": np.dtype(dtype).name, "seed": seed,
-                   **run_descent(problem, seed, options), "t_matvec_s": t_mv}
+                   **run_descent(problem, seed, options, trace_memory=seed == 0), "t_matvec_s": t_mv}
             rec["iter_over_matvec"] = rec["t_iter_s"] / t_mv
             if n == 4000 and not pm1 and not args.no_sa:
                 rec["sa"] = compare_sa(problem, seed, rec, args.sa_multipliers)
@@ -169,6 +194,13 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
     out.write_text(json.dumps({"runs": runs, "summary": summary, "options": options}, indent=2))
     print(f"wrote {out}")
     return summary
+
+
+def warm_up(options: dict[str, Any]) -> None:
+    """Load every numba kernel once (compiled and cached on disk), so no timed run pays for it."""
+    small = sk_problem(200, 1)
+    _solve(small, 0, options)
+    annealer()(small, 0, 0.05)
 
 
 def compare_sa(problem: CanonicalProblem, seed: int, rec: dict[str, Any], multipliers: list[float]) -> dict[str, Any]:
@@ -187,10 +219,11 @@ def compare_sa(problem: CanonicalProblem, seed: int, rec: dict[str, Any], multip
 
 def row(r: dict[str, Any]) -> str:
     sa = r.get("sa")
+    peak = "" if r["peak_mb"] is None else f"  peak {r['peak_mb']:.0f} MB"
     sa_txt = f"  SA(×1) {sa['by_multiplier']['1.0']:.4f}  t(SA=desc)/t {sa['equal_energy_time_ratio']}" if sa else ""
     return (f"n={r['n']:5d} {r['couplings']:5s} {r['dtype']:7s} seed={r['seed']}  e_round {r['e_rounded']:.4f}  "
             f"e_clean {r['e_cleaned']:.4f}  e_final {r['e_final']:.4f}  wall {r['wall_s']:6.2f}s  "
-            f"iter/matvec {r['iter_over_matvec']:.2f}  peak {r['peak_mb']:.0f} MB{sa_txt}")
+            f"iter/matvec {r['iter_over_matvec']:.2f}{peak}{sa_txt}")
 
 
 def summarise(runs: list[dict[str, Any]], first: float, cached: float) -> dict[str, Any]:

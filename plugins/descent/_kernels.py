@@ -1,4 +1,6 @@
-"""numba kernels for the descent solver's low-temperature polish (canonical: maximise ½σᵀKσ + bᵀσ).
+"""numba kernels for the descent solver: the fused IAMP step and the low-temperature polish.
+
+Canonical sense for the polish: maximise ½σᵀKσ + bᵀσ.
 
 Flipping spin i changes C by Δ = −2σᵢhᵢ with h = Kσ + b.  Imported lazily from the run
 function; compilation happens on first call and is cached on disk by numba.
@@ -69,3 +71,29 @@ def moments(block):  # pragma: no cover - compiled
             a = abs(v)
             big = max(big, a)
     return total, squares, nonzero, big
+
+
+@nb.njit(cache=True)
+def amp_step(z, x, m, w, d1, d2, drift_dt, x0, inv_h, top):  # pragma: no cover - compiled
+    """One IAMP step's elementwise part, in place; returns (‖w‖², Σu).
+
+    With u = ∂_xxΦ(t, x) and ∂_xΦ(t, x) interpolated linearly in the rows ``d1``/``d2`` on the
+    uniform grid x0 + k/inv_h (clamped to its ends, where the tables are flat):
+    w = u ∘ z, m += w, x += drift_dt·∂_xΦ + z (x is read before it is updated).
+    """
+    w_norm2 = 0.0
+    u_sum = 0.0
+    for i in range(z.shape[0]):
+        pos = (x[i] - x0) * inv_h
+        pos = min(max(pos, 0.0), top)
+        k = int(pos)
+        frac = pos - k
+        u = d2[k] + frac * (d2[k + 1] - d2[k])
+        slope = d1[k] + frac * (d1[k + 1] - d1[k])
+        wi = u * z[i]
+        w[i] = wi
+        m[i] += wi
+        x[i] += drift_dt * slope + z[i]
+        w_norm2 += wi * wi
+        u_sum += u
+    return w_norm2, u_sum

@@ -33,20 +33,21 @@ from .parisi import ParisiTables
 Matvec = Callable[[np.ndarray], np.ndarray]
 
 
-def raw_matvec(K: Any, kind: str) -> Matvec:
-    """x ↦ K x in float64, for the canonical problem's K of any kind.
+def raw_matvec(K: Any, kind: str, dtype: Any = np.float64) -> Matvec:
+    """x ↦ K x (float64 in and out), computed in ``dtype`` for dense and sparse K.
 
-    Dense and memory-mapped K take the same row-block path, so they give bit-identical
-    results (a block at a time keeps a memmap's resident pages bounded, too).
+    Dense and memory-mapped K take the same row-block path, each block cast to ``dtype``, so
+    an in-memory K, its float32 working copy and a memmap of it give bit-identical results (a
+    block at a time keeps a memmap's resident pages bounded, too).  A LinearOperator computes
+    in its own precision.
     """
     if kind == "operator":
         return lambda x: np.asarray(K.matvec(x), dtype=np.float64).reshape(-1)
     if kind == "sparse":
-        csr = K.tocsr()
-        return lambda x: np.asarray(csr @ x, dtype=np.float64)
+        csr = K.tocsr().astype(dtype)
+        return lambda x: np.asarray(csr @ x.astype(dtype), dtype=np.float64)
     n = K.shape[0]
     step = max(1, BLOCK_ENTRIES // max(n, 1))
-    dtype = K.dtype if K.dtype in (np.float32, np.float64) else np.float64
 
     def dense(x: np.ndarray) -> np.ndarray:
         xs = np.asarray(x, dtype=dtype)
@@ -106,55 +107,37 @@ def _project_out(z: np.ndarray, recent: list[np.ndarray]) -> np.ndarray:
     return z
 
 
-class _Lookup:
-    """Linear interpolation in the tables' rows on their uniform x-grid (one index pass for both)."""
-
-    def __init__(self, grid: np.ndarray) -> None:
-        self.x0 = float(grid[0])
-        self.inv_h = 1.0 / float(grid[1] - grid[0])
-        self.top = grid.size - 1 - 1e-9
-
-    def locate(self, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        pos = np.clip((x - self.x0) * self.inv_h, 0.0, self.top)
-        idx = pos.astype(np.intp)
-        return idx, pos - idx
-
-    @staticmethod
-    def at(row: np.ndarray, idx: np.ndarray, frac: np.ndarray) -> np.ndarray:
-        lo = row[idx]
-        return lo + frac * (row[idx + 1] - lo)
-
-
 def iamp(matvec: Matvec, n: int, tables: ParisiTables, rng: np.random.Generator, *,
          project: int = 2, should_stop: Callable[[], bool] = lambda: False) -> IampResult:
     """Run IAMP on the normalised A (see the module docstring); returns the magnetisation m.
 
     ``project`` is how many of the latest inputs f each z is made orthogonal to (0 = plain).
     Outside the tables' x-range the end values are used (∂_xΦ → ±1, ∂_xxΦ → 0 there).
+    The elementwise part of a step (table lookups, m, x and w) is one fused numba loop.
     """
+    from . import _kernels as kern
+
     steps = tables.t.size
     dts = np.diff(np.append(tables.t, 1.0))
-    look = _Lookup(tables.x)
+    grid = (float(tables.x[0]), 1.0 / float(tables.x[1] - tables.x[0]), tables.x.size - 1 - 1e-9)
     f = rng.choice([-1.0, 1.0], size=n) * math.sqrt(dts[0])
     f_prev = np.zeros(n)
     onsager = 0.0
     x = np.zeros(n)
     m = np.zeros(n)
+    w = np.empty(n)
     recent = [f]
     for step in range(steps):
         z = matvec(f) - onsager * f_prev
         if project > 0:
             z = _project_out(z, recent[-project:])
-        idx, frac = look.locate(x)
-        u = look.at(tables.d2[step], idx, frac)
-        w = u * z
-        m += w
-        x += (tables.gamma[step] * dts[step]) * look.at(tables.d1[step], idx, frac) + z
+        w_norm2, u_sum = kern.amp_step(z, x, m, w, tables.d1[step], tables.d2[step],
+                                       float(tables.gamma[step] * dts[step]), *grid)
         if step + 1 == steps or should_stop():
             return IampResult(m, x, step + 1, step + 1 < steps)
-        c = math.sqrt(dts[step + 1] * n / max(float(w @ w), 1e-300))
+        c = math.sqrt(dts[step + 1] * n / max(w_norm2, 1e-300))
         f_prev, f = f, c * w
-        onsager = c * float(u.mean())
+        onsager = c * u_sum / n
         recent.append(f)
         if len(recent) > max(project, 1):
             recent.pop(0)

@@ -1,0 +1,46 @@
+"""Working copies of the couplings K for the numba kernels (shared by annealing, tabu and descent).
+
+A float32 copy of a dense K halves the memory traffic of matvecs and O(n) row updates; the
+values that solvers report are always recomputed from the caller's K, so the copy only steers
+the search.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from spinward.core import CanonicalProblem, InputError
+
+from .flips import csr_parts
+
+#: bytes; above this a dense K is used as given (no working copy is made)
+FLOAT32_COPY_LIMIT = 1 << 30
+PRECISIONS = ("auto", "float32", "float64")
+
+
+def check_precision(precision: Any, who: str) -> str:
+    """``precision`` if it is one of :data:`PRECISIONS`, else an InputError naming the choices."""
+    if precision not in PRECISIONS:
+        raise InputError(f"{who}: precision must be 'auto', 'float32' or 'float64', got {precision!r}")
+    return str(precision)
+
+
+def working_couplings(problem: CanonicalProblem, precision: str, who: str = "anneal") -> tuple[Any, ...]:
+    """Arguments that describe K to a kernel: (K,) dense or (indptr, indices, data) CSR.
+
+    "auto" makes a C-contiguous float32 copy of a dense K when it takes at most
+    :data:`FLOAT32_COPY_LIMIT` bytes (else K is used as given); "float32"/"float64" force it.
+    """
+    check_precision(precision, who)
+    if problem.kind == "sparse":
+        return csr_parts(problem)
+    K = problem.K
+    small = problem.n * problem.n * 4 <= FLOAT32_COPY_LIMIT
+    want = np.float32 if precision == "float32" or (precision == "auto" and small) else np.float64
+    if precision == "auto" and K.dtype == np.float32:
+        want = np.float32
+    if K.dtype != want or not K.flags.c_contiguous:
+        K = np.ascontiguousarray(K, dtype=want)
+    return (K,)
