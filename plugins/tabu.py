@@ -7,7 +7,7 @@ unless flipping it would beat the best value seen (aspiration).  When ``stall``
 moves pass without a new best, the walk restarts from the best state with
 ``perturb``·n random spins flipped and held tabu (iterated tabu search); a kick
 that finds nothing new makes the next one stronger.  Each of ``restarts`` runs
-starts from the best state that simulated annealing finds in half the time left
+starts from the best state that simulated annealing finds in 80 % of the time left
 (``start="anneal"``, the default; one 1000-sweep schedule without a time limit)
 or from uniform random spins (``start="random"``, plain tabu search); the best
 state is climbed to a 1-flip local optimum and offered.
@@ -15,7 +15,9 @@ state is climbed to a 1-flip local optimum and offered.
 Why the anneal start: on sparse random graphs (3-regular, G(n, 10/n)) a walk from
 random spins stays 2–12 % below annealing even given 10× the time (measured in
 examples/benchmarks/heuristics.py): single flips cannot undo the large-scale
-domain structure that a random start freezes in.
+domain structure that a random start freezes in.  The anneal's share: on a 3-regular
+graph with Gaussian weights, n = 10⁴, 10 s, an 80 % share cut 5469.9 and a 50 % share
+5456.3 (measured); the walk then improves the annealed state by single flips.
 
 Defaults scale with n: tenure = max(10, n/10) for sparse K and max(10, n/30)
 for dense K (at most n/3), stall = max(2000, 2n), perturb = 0.02, and ``moves``
@@ -43,7 +45,7 @@ CHUNK_SECONDS = 0.05
 OFFER_SECONDS = 1.0
 MAX_CHUNK = 10**8
 KICK_GROWTH = 1.5
-ANNEAL_SHARE = 0.5  # of the time left, for the anneal that seeds a walk
+ANNEAL_SHARE = 0.8  # of the time left, for the anneal that seeds a walk
 
 OPTIONS: dict[str, Any] = {
     "initial": None,

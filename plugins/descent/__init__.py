@@ -14,6 +14,10 @@ balanced state plus k₀, finite_size_estimate (e_n ≈ P* − 0.7·n^{−2/3}),
 energy_per_spin_rounded / _cleaned / energy_per_spin (final, after the polish), where
 e = fluctuation part / (s·n^{3/2}), and overlaps (solutions > 1).
 
+Precision: by default (``precision="auto"``) the matvecs and the polish use a float32 working
+copy of a dense K (streamed block by block when no copy fits) or of a sparse K; reported values
+are always computed from the caller's K.  ``precision="float64"`` computes in float64.
+
 Time limits are checked at every IAMP step; the first Parisi solve (a few seconds, then cached
 on disk), the statistics pass, the Lanczos check and the polish run to completion.
 """

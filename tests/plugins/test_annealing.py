@@ -130,7 +130,7 @@ def test_registers_through_the_hook_and_runs_with_declared_defaults():
 
 
 def test_next_schedule_is_cut_to_the_time_left():
-    # run time is proportional to length: at 1 ms a sweep, 0.5 s left (80 % usable) allows 400 sweeps
-    assert annealing.next_length(1000, 1e-3, 0.5) == 400
+    # run time is proportional to length: at 1 ms a sweep, 0.5 s left (90 % usable) allows 450 sweeps
+    assert annealing.next_length(1000, 1e-3, 0.5) == 450
     assert annealing.next_length(1000, 1e-6, 0.5) == 1000
     assert annealing.next_length(1000, None, 0.5) == 1000
