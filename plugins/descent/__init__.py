@@ -190,7 +190,7 @@ def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx:
     ctx.offer(sigma, value)
     out = {"sigma": sigma, "value": value, "rounded": rounded, "rounded_value": rounded_value,
            "cleaned": sigma, "cleaned_value": value, "steps": res.steps, "stopped": res.stopped,
-           "seconds": seconds, "polish_seconds": 0.0}
+           "seconds": seconds, "matvec_seconds": res.matvec_seconds, "polish_seconds": 0.0}
     sweeps = _int_option(ctx, "polish_sweeps", 0, 10**7)
     if sweeps and couplings is not None and not ctx.should_stop():
         start = time.perf_counter()
@@ -262,7 +262,8 @@ def _info(problem: CanonicalProblem, stats: diag.CouplingStats, edges: Any, elig
         "eligible": eligible, "coupling_mean": stats.mean, "coupling_std": stats.std,
         "density": stats.density, "excess_kurtosis": stats.excess_kurtosis, "scale_exact": stats.exact,
         "spectrum_edges": edges, "parisi_cached": cached, "iterations": best["steps"],
-        "iamp_seconds": [r["seconds"] for r in runs], "stopped_early": any(r["stopped"] for r in runs),
+        "iamp_seconds": [r["seconds"] for r in runs], "iamp_matvec_seconds": [r["matvec_seconds"] for r in runs],
+        "stopped_early": any(r["stopped"] for r in runs),
         "energy_per_spin_rounded": _fluctuation_e(problem, best["rounded"], best["rounded_value"], stats),
         "energy_per_spin_cleaned": _fluctuation_e(problem, best["cleaned"], best["cleaned_value"], stats),
         "energy_per_spin": _fluctuation_e(problem, best["sigma"], best["value"], stats),

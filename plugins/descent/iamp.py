@@ -21,6 +21,7 @@ of the runs at n ≤ 2000 (measured).  Removing from z its projection on the las
 from __future__ import annotations
 
 import math
+import time
 from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
@@ -91,6 +92,7 @@ class IampResult:
     x: np.ndarray
     steps: int
     stopped: bool
+    matvec_seconds: float = 0.0  # time spent inside matvec (the rest of a step is elementwise work)
 
 
 def _project_out(z: np.ndarray, recent: list[np.ndarray]) -> np.ndarray:
@@ -127,18 +129,22 @@ def iamp(matvec: Matvec, n: int, tables: ParisiTables, rng: np.random.Generator,
     m = np.zeros(n)
     w = np.empty(n)
     recent = [f]
+    in_matvec = 0.0
     for step in range(steps):
-        z = matvec(f) - onsager * f_prev
+        t0 = time.perf_counter()
+        y = matvec(f)
+        in_matvec += time.perf_counter() - t0
+        z = y - onsager * f_prev
         if project > 0:
             z = _project_out(z, recent[-project:])
         w_norm2, u_sum = kern.amp_step(z, x, m, w, tables.d1[step], tables.d2[step],
                                        float(tables.gamma[step] * dts[step]), *grid)
         if step + 1 == steps or should_stop():
-            return IampResult(m, x, step + 1, step + 1 < steps)
+            return IampResult(m, x, step + 1, step + 1 < steps, in_matvec)
         c = math.sqrt(dts[step + 1] * n / max(w_norm2, 1e-300))
         f_prev, f = f, c * w
         onsager = c * u_sum / n
         recent.append(f)
         if len(recent) > max(project, 1):
             recent.pop(0)
-    return IampResult(m, x, steps, False)
+    return IampResult(m, x, steps, False, in_matvec)

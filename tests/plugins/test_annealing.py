@@ -129,6 +129,15 @@ def test_registers_through_the_hook_and_runs_with_declared_defaults():
     assert own_value(K, b, k0, sol.sigma) == pytest.approx(brute_max(K, b, k0))
 
 
+def test_time_limited_schedules_grow_then_fill_then_stop():
+    # arithmetic of the documented rule, at 1 ms a sweep (90 % of the time left usable)
+    assert annealing.next_schedule(4000, 1000, 1e-3, 100.0) == 4000        # fits, leaves room for more
+    assert annealing.next_schedule(4000, 1000, 1e-3, 5.0) == 4500          # the rest could not be used: fill
+    assert annealing.next_schedule(64000, 16000, 1e-3, 10.0) == 9000       # cut to fit, still ≥ half the longest
+    assert annealing.next_schedule(64000, 32000, 1e-3, 10.0) == 0          # under half the longest: stop
+    assert annealing.next_schedule(1000, 20, 1e-3, 0.01) == 0              # under the probe length: stop
+
+
 def test_next_schedule_is_cut_to_the_time_left():
     # run time is proportional to length: at 1 ms a sweep, 0.5 s left (90 % usable) allows 450 sweeps
     assert annealing.next_length(1000, 1e-3, 0.5) == 450
