@@ -51,7 +51,7 @@ class Ising(CachedForm):
         loops = [k for k in J if k[0] == k[1]]
         if loops:
             self.note(f"dropped {len(loops)} self-coupling(s) J[(i, i)] such as {loops[0]!r}: s_i² = 1 is a constant")
-        self._terms = {k: v for k, v in J.items() if k[0] != k[1]}
+        self._terms: dict[Any, Any] | None = {k: v for k, v in J.items() if k[0] != k[1]}
         self._fields = {k: check_number(v, f"h[{k!r}]") for k, v in h_dict.items()}
         self._labels = tuple(first_appearance([*self._fields, *(v for key in self._terms for v in key)]))
         M = dict_to_matrix(self._terms, self._labels, "J")

@@ -40,7 +40,7 @@ class QUBO(CachedForm):
         if isinstance(Q, Mapping):
             if labels is not None:
                 raise InputError("labels cannot be given with a dict Q: the dict's keys are the labels")
-            self._terms = dict(Q)
+            self._terms: dict[Any, Any] | None = dict(Q)
             self._labels = tuple(first_appearance(v for key in self._terms for v in _pair(key)))
             self.Q = dict_to_matrix(self._terms, self._labels, "Q")
         else:

@@ -49,7 +49,7 @@ class CanonicalProblem:
     shift: float = 0.0
     sense: Sense = "max"
     form: str = "canonical"
-    meta: dict[str, Any] = field(default_factory=dict)
+    meta: dict[Any, Any] = field(default_factory=dict)
 
     def __post_init__(self) -> None:
         n = self.b.shape[0] if self.b.ndim == 1 else -1

@@ -9,7 +9,7 @@ from __future__ import annotations
 import math
 import time
 import warnings
-from typing import Any, Callable
+from typing import Any, Callable, cast
 
 import numpy as np
 
@@ -179,7 +179,8 @@ def solve_form(form: ProblemForm, *, registry: Registry, method: Any = "auto", t
         ctx.time_limit = limit * (1 - float(common["bound_share"]))
     sol = run_spec(spec, problem, ctx)
     ctx.time_limit = limit
-    bound, log = (None, [])
+    bound: Any = None
+    log: list[dict[str, Any]] = []
     if common["bound"] and not ctx.interrupted:
         bound, log = attach_bound(problem, registry, ctx, sol, problem.value(sol.sigma), float(common["bound_share"]))
     info = dict(sol.info)
@@ -227,7 +228,7 @@ def build_result(form: ProblemForm, problem: CanonicalProblem, spec: SolverSpec,
         status = "optimal"
     return Result(form=form.form, assignment=dict(zip(problem.labels, values.tolist())),
                   array=tuple(values.tolist()), objective=objective, sense=form.sense, bound=bound_value,
-                  bound_kind=kind, gap=gap, exact=exact, solver=spec.name, status=status,
+                  bound_kind=cast(Any, kind), gap=gap, exact=exact, solver=spec.name, status=cast(Any, status),
                   wall_time=ctx.elapsed(), seed=ctx.seed, warnings=tuple(notes + ctx.warnings), info=info)
 
 

@@ -32,6 +32,7 @@ class SolverHooks:
 
         Each name must be unique across all plugins; a clash is a PluginError.
         """
+        return []
 
     @hookspec
     def spinward_bounds(self) -> "list[BoundSpec]":
@@ -40,3 +41,4 @@ class SolverHooks:
         A provider computes an upper bound on the canonical maximum that holds
         for every instance (``certified=True``) or is only an estimate.
         """
+        return []

@@ -100,12 +100,13 @@ def _compute(problem: CanonicalProblem, budget: float) -> Profile:
         degeneracy, treewidth = _treewidth(n, rows, cols, budget, stats["density"])
     spectral = _mean_field_spectrum(problem, stats) if stats["density"] >= DENSE_FILL and n >= 50 else {}
     score, reasons = _mean_field_score(n, stats, spectral, problem)
+    stats_fields: dict[str, Any] = stats
     return Profile(n=n, couplings=len(vals), components=components, kind=problem.kind,
                    ferromagnetic=bool(np.all(vals >= 0)), frustration_free=frustration_free,
                    degeneracy=degeneracy, treewidth=treewidth, has_fields=problem.has_fields,
                    field_ratio=_field_ratio(problem, vals), mean_field_score=score, mean_field_reasons=reasons,
                    top_eigenvalues=spectral.get("top", ()), mean_outlier=spectral.get("outlier", 0.0),
-                   seconds=time.perf_counter() - t0, **stats)
+                   seconds=time.perf_counter() - t0, **stats_fields)
 
 
 def _upper_entries(problem: CanonicalProblem) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -206,7 +207,7 @@ def _dense_stats(problem: CanonicalProblem, pairs: int) -> tuple[dict[str, float
     nz_var = max(total2 / max(nnz, 1) - nz_mean ** 2, 0.0)
     centred = sample - nz_mean
     kurt = float((centred ** 4).mean() / nz_var ** 2) if nz_var > 0 and sample.size else 0.0
-    stats = dict(density=nnz / pairs, mean=mean, std=math.sqrt(max(total2 / pairs - mean ** 2, 0.0)),
+    stats: dict[str, Any] = dict(density=nnz / pairs, mean=mean, std=math.sqrt(max(total2 / pairs - mean ** 2, 0.0)),
                  nonzero_mean=nz_mean, nonzero_std=math.sqrt(nz_var), kurtosis=kurt, max_abs=max(float(K.max()), -float(K.min())))
     signs = np.array([float(K.min())])  # ferromagnetic iff the smallest entry is ≥ 0
     return stats, signs

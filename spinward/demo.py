@@ -46,7 +46,7 @@ def run_demo(seed: int = 0) -> str:
     lines = ["Two-band frequency plan for 24 city transmitters (invented data, fixed seed)", ""]
     for band in (0, 1):
         members = [name for name, side in result.assignment.items() if side == band]
-        lines.append(f"Band {'AB'[band]} ({len(members)} transmitters): " + ", ".join(members))
+        lines.append(f"Band {'AB'[band]} ({len(members)} transmitters): " + ", ".join(str(m) for m in members))
     lines += ["",
               f"Interference removed by the split: {result.objective:.4f} of {total:.4f} "
               f"({100 * result.objective / total:.1f}%)",

@@ -278,6 +278,7 @@ def optimise_joint(q: np.ndarray, m: np.ndarray, x: np.ndarray, max_evals: int) 
     def objective(z: np.ndarray) -> tuple[float, np.ndarray]:
         qq, mm, e = _unpack(z, k)
         value, gq, gm = evaluate(qq, mm, x, grad=True)
+        assert gq is not None and gm is not None  # grad=True returns both gradients
         tail = np.concatenate([np.cumsum(gq[::-1])[::-1], [0.0]])  # ∂P/∂(length i) through all later q
         return value, np.concatenate([e * tail - e * float(gq @ qq), gm * mm])
 
@@ -405,7 +406,7 @@ def _save(path: Path, arrays: dict[str, np.ndarray]) -> None:
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
         tmp = path.with_name(f"{path.stem}.{os.getpid()}.tmp.npz")
-        np.savez(tmp, **arrays)
+        np.savez(tmp, **arrays)  # type: ignore[arg-type]  # numpy's stub types keyword arrays as allow_pickle
         os.replace(tmp, path)
     except OSError:
         pass

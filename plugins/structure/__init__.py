@@ -60,7 +60,7 @@ def _fit(score: float) -> Callable[[Any], float]:
 
 
 # No ``assumptions``: each condition is enforced by the solver's check, which declines with its reason.
-_EXACT = dict(exact=True, fields=True, dense=True, sparse=True, operator=False, stochastic=False)
+_EXACT: dict[str, Any] = dict(exact=True, fields=True, dense=True, sparse=True, operator=False, stochastic=False)
 
 SPECS = [
     SolverSpec(

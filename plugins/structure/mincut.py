@@ -261,6 +261,7 @@ def solve_network(net: Network, ctx: SolveContext, max_levels: int) -> CutResult
         phi = phi * (2**step)
     # the gap is in cut units of 2^-p at the last level run; C changes by twice the cut
     gap = 0.0 if gap_units == 0 else math.ldexp(2.0 * gap_units, -levels[-1]["scale_bits"]) * (1 + 1e-12)
+    assert side is not None  # the loop runs at least one level
     return CutResult(side[: net.n].copy(), gap_units == 0, gap, levels)
 
 
