@@ -132,7 +132,8 @@ def test_bipartite_maxcut_cuts_every_edge():
 
 def test_options_are_checked():
     K, b, k0 = random_instance(np.random.default_rng(0), 5)
-    for bad in ({"moves": 0}, {"tenure": -1}, {"perturb": 0.0}, {"start": "greedy"}, {"stall": 0}):
+    for bad in ({"moves": 0}, {"tenure": -1}, {"perturb": 0.0}, {"start": "greedy"}, {"stall": 0},
+                {"ball_kicks": -1}, {"ball_kicks": 1.5}):
         with pytest.raises(InputError):
             solve(K, b, k0, **bad)
 
@@ -159,3 +160,29 @@ def test_registers_through_the_hook_and_runs_with_declared_defaults():
     ctx = SolveContext(rng=np.random.default_rng(0), time_limit=0.2, options=dict(spec.options))
     sol = spec.run(CanonicalProblem(K, b, k0), ctx)
     assert own_value(K, b, k0, sol.sigma) == pytest.approx(brute_max(K, b, k0))
+
+
+def test_ball_kicks_alone_reach_the_brute_force_optimum():
+    # reference: brute force over all states (tests/references.py); kicks only, no anneal, no walk
+    assert heuristic_misses(solve, {"start": "random", "ball_kicks": 3000, "moves": 1}, sparse=True, seed=23) <= 1
+
+
+def test_ball_kicks_never_lose_and_end_at_a_local_optimum():
+    # C(σ) recomputed plainly from K, b, k₀ (tests/references.py own_value), not from the kernel
+    from spinward.plugins.common.kicks import kick_search
+
+    rng = np.random.default_rng(5)
+    g = nx.random_regular_graph(3, 400, seed=5)
+    upper = np.triu(nx.to_numpy_array(g) * rng.standard_normal((400, 400)), 1)  # Gaussian weights on the edges
+    K = sp.csr_array(upper + upper.T)
+    b = rng.standard_normal(400) * 0.3
+    problem = CanonicalProblem(K, b, 1.5)
+    start = np.where(rng.random(400) < 0.5, 1, -1).astype(np.int8)
+    ctx = SolveContext(rng=np.random.default_rng(1))
+    sigma, value, done = kick_search(problem, start, ctx, kicks=20_000)
+    Kd = K.toarray()
+    assert done == 20_000
+    assert value == pytest.approx(own_value(Kd, b, 1.5, sigma), abs=1e-9)
+    assert value >= own_value(Kd, b, 1.5, start)
+    gains = -2.0 * sigma * (Kd @ sigma + b)
+    assert gains.max() <= 1e-9  # no single flip improves

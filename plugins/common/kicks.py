@@ -1,0 +1,63 @@
+"""Ball kicks: iterated local search for sparse couplings (canonical: maximise C(σ) = ½σᵀKσ + bᵀσ + k₀).
+
+One kick flips the spins of a breadth-first ball around a random spin, repairs greedily
+with single flips, and is kept when C does not drop (plateau moves are allowed); otherwise
+it is undone.  A kick costs O(ball · degree), so millions run per second on sparse graphs,
+and a ball moves a connected cluster at once, which single flips at low temperature cannot.
+Ball sizes cycle through :data:`BALL_SIZES`.
+
+Measured on a 3-regular graph with Gaussian weights, n = 10⁴, from an annealed state
+(40 000 sweeps, cut 5450.8): 2·10⁶ kicks with 8-spin balls reached 5469.2 in 1.2 s, then
+cycling sizes 5474.9 after another 1.5 s; 16 000 more annealing sweeps from the same state
+at low temperature gained nothing.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+
+import numpy as np
+
+from spinward.core import CanonicalProblem, SolveContext
+
+from .flips import csr_parts, flip_tolerance, local_search
+
+BALL_SIZES = (8, 4, 12, 6, 16, 24)
+CHUNK_SECONDS = 0.05
+OFFER_SECONDS = 1.0
+
+
+def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext, *,
+                seconds: float | None = None, kicks: int | None = None) -> tuple[np.ndarray, float, int]:
+    """Ball kicks from ``sigma`` until ``seconds`` pass, ``kicks`` are done or ``ctx`` stops.
+
+    ``problem.kind`` must be "sparse".  Returns (best σ as int8 at a 1-flip local optimum,
+    its C, kicks run).
+    """
+    from . import _kick_kernels as kern
+
+    parts = csr_parts(problem)
+    s = np.asarray(sigma, dtype=np.float64).copy()
+    h = problem.local_fields(s)
+    best_sigma = s.copy()
+    value = best = problem.value(s)
+    tol = flip_tolerance(problem)
+    end = math.inf if seconds is None else time.perf_counter() + seconds
+    budget = math.inf if kicks is None else kicks
+    done, chunk, round_ = 0, 1000, 0
+    last_offer = time.perf_counter()
+    while done < budget and time.perf_counter() < end and not ctx.should_stop():
+        size = BALL_SIZES[round_ % len(BALL_SIZES)]
+        count = int(min(chunk, budget - done))
+        t0 = time.perf_counter()
+        value, best, _ = kern.ball_kicks(*parts, s, h, best_sigma, value, best, count, size,
+                                         int(ctx.rng.integers(0, 2**31 - 1)), tol)
+        spent = time.perf_counter() - t0
+        done, round_ = done + count, round_ + 1
+        chunk = max(100, min(4 * chunk, int(count * CHUNK_SECONDS / max(spent, 1e-9))))
+        if time.perf_counter() - last_offer > OFFER_SECONDS:
+            ctx.offer(best_sigma.astype(np.int8), problem.value(best_sigma))
+            last_offer = time.perf_counter()
+    out, out_value = local_search(problem, best_sigma.astype(np.int8))
+    return out, out_value, done
