@@ -29,8 +29,10 @@ OFFER_SECONDS = 1.0
 
 
 def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext, *,
-                seconds: float | None = None, kicks: int | None = None) -> tuple[np.ndarray, float, int]:
-    """Ball kicks from ``sigma`` until ``seconds`` pass, ``kicks`` are done or ``ctx`` stops.
+                seconds: float | None = None, kicks: int | None = None,
+                stall: int | None = None) -> tuple[np.ndarray, float, int]:
+    """Ball kicks from ``sigma`` until ``seconds`` pass, ``kicks`` are done, ``ctx`` stops, or
+    ``stall`` kicks in a row (counted by whole chunks) gained nothing.
 
     ``problem.kind`` must be "sparse".  Returns (best σ as int8 at a 1-flip local optimum,
     its C, kicks run).
@@ -45,14 +47,16 @@ def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext,
     tol = flip_tolerance(problem)
     end = math.inf if seconds is None else time.perf_counter() + seconds
     budget = math.inf if kicks is None else kicks
-    done, chunk, round_ = 0, 1000, 0
+    done, chunk, round_, idle = 0, 1000, 0, 0
     last_offer = time.perf_counter()
-    while done < budget and time.perf_counter() < end and not ctx.should_stop():
+    while done < budget and time.perf_counter() < end and not ctx.should_stop() \
+            and (stall is None or idle < stall):
         size = BALL_SIZES[round_ % len(BALL_SIZES)]
         count = int(min(chunk, budget - done))
         t0 = time.perf_counter()
-        value, best, _ = kern.ball_kicks(*parts, s, h, best_sigma, value, best, count, size,
-                                         int(ctx.rng.integers(0, 2**31 - 1)), tol)
+        value, best, gained = kern.ball_kicks(*parts, s, h, best_sigma, value, best, count, size,
+                                              int(ctx.rng.integers(0, 2**31 - 1)), tol)
+        idle = 0 if gained else idle + count
         spent = time.perf_counter() - t0
         done, round_ = done + count, round_ + 1
         chunk = max(100, min(4 * chunk, int(count * CHUNK_SECONDS / max(spent, 1e-9))))
