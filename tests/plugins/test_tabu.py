@@ -186,3 +186,17 @@ def test_ball_kicks_never_lose_and_end_at_a_local_optimum():
     assert value >= own_value(Kd, b, 1.5, start)
     gains = -2.0 * sigma * (Kd @ sigma + b)
     assert gains.max() <= 1e-9  # no single flip improves
+
+
+def test_ball_kicks_stop_when_they_stall():
+    # a 1-flip local optimum of a 6-cycle ferromagnet (all spins equal) is the optimum: no kick gains,
+    # so a stall limit ends the search long before the kick budget (optimum by hand: every edge satisfied)
+    from spinward.plugins.common.kicks import kick_search
+
+    g = nx.cycle_graph(6)
+    K = sp.csr_array(nx.to_numpy_array(g))
+    problem = CanonicalProblem(K, np.zeros(6))
+    ctx = SolveContext(rng=np.random.default_rng(0))
+    sigma, value, done = kick_search(problem, np.ones(6, dtype=np.int8), ctx, kicks=10**6, stall=5000)
+    assert value == pytest.approx(6.0)  # ½σᵀKσ with K the cycle's adjacency: 6 satisfied edges
+    assert done < 10**6
