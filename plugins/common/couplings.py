@@ -31,16 +31,16 @@ def working_couplings(problem: CanonicalProblem, precision: str, who: str = "ann
     """Arguments that describe K to a kernel: (K,) dense or (indptr, indices, data) CSR.
 
     "auto" makes a C-contiguous float32 copy of a dense K when it takes at most
-    :data:`FLOAT32_COPY_LIMIT` bytes (else K is used as given); "float32"/"float64" force it.
+    :data:`FLOAT32_COPY_LIMIT` bytes; a larger K (a memmap, say) is used as given, never
+    copied (the kernels read any numeric dtype and layout).  "float32"/"float64" force a copy of that precision.
     """
     check_precision(precision, who)
     if problem.kind == "sparse":
         return csr_parts(problem)
     K = problem.K
-    small = problem.n * problem.n * 4 <= FLOAT32_COPY_LIMIT
-    want = np.float32 if precision == "float32" or (precision == "auto" and small) else np.float64
-    if precision == "auto" and K.dtype == np.float32:
-        want = np.float32
+    if precision == "auto" and problem.n * problem.n * 4 > FLOAT32_COPY_LIMIT:
+        return (K,)
+    want = np.float64 if precision == "float64" else np.float32
     if K.dtype != want or not K.flags.c_contiguous:
         K = np.ascontiguousarray(K, dtype=want)
     return (K,)

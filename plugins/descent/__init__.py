@@ -95,15 +95,14 @@ def working_precision(problem: CanonicalProblem, ctx: SolveContext) -> tuple[tup
     """(working couplings for the polish, dtype of the IAMP matvecs).
 
     "auto" computes in float32 (the method is matvec-bound and float32 couplings lose nothing
-    measurable); a dense K too large for a float32 copy is streamed, each block cast on the fly.
+    measurable); a dense K too large for a float32 copy is used as given (plugins.common.couplings)
+    and streamed, each block cast on the fly.
     """
-    from spinward.plugins.common.couplings import FLOAT32_COPY_LIMIT, check_precision, working_couplings
+    from spinward.plugins.common.couplings import check_precision, working_couplings
 
     precision = check_precision(ctx.option("precision", OPTIONS["precision"]), "descent")
     dtype = np.float64 if precision == "float64" else np.float32
     if problem.kind == "operator":
-        return (problem.K,), dtype
-    if problem.kind == "dense" and precision == "auto" and problem.n * problem.n * 4 > FLOAT32_COPY_LIMIT:
         return (problem.K,), dtype
     return working_couplings(problem, precision, "descent"), dtype
 
