@@ -24,15 +24,25 @@ from spinward.core import CanonicalProblem, SolveContext
 from .flips import csr_parts, flip_tolerance, local_search
 
 BALL_SIZES = (8, 4, 12, 6, 16, 24)
-CHUNK_SECONDS = 0.05
+ROUND_WORK = 4_000_000  # coupling visits per kernel call: about 0.03–0.06 s here
 OFFER_SECONDS = 1.0
+
+
+def round_kicks(problem: CanonicalProblem, size: int) -> int:
+    """Kicks per kernel call for balls of ``size`` spins, from the mean degree alone.
+
+    The count depends on the problem, never on the clock, so a run without a time limit
+    is the same on any machine and under any load (ball sizes and kernel seeds change per call).
+    """
+    degree = csr_parts(problem)[0][-1] / max(problem.n, 1)
+    return max(100, int(ROUND_WORK / (2.0 * size * (degree + 1.0))))
 
 
 def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext, *,
                 seconds: float | None = None, kicks: int | None = None,
                 stall: int | None = None) -> tuple[np.ndarray, float, int]:
     """Ball kicks from ``sigma`` until ``seconds`` pass, ``kicks`` are done, ``ctx`` stops, or
-    ``stall`` kicks in a row (counted by whole chunks) gained nothing.
+    ``stall`` kicks in a row (counted by whole kernel calls) gained nothing.
 
     ``problem.kind`` must be "sparse".  Returns (best σ as int8 at a 1-flip local optimum,
     its C, kicks run).
@@ -47,19 +57,16 @@ def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext,
     tol = flip_tolerance(problem)
     end = math.inf if seconds is None else time.perf_counter() + seconds
     budget = math.inf if kicks is None else kicks
-    done, chunk, round_, idle = 0, 1000, 0, 0
+    done, round_, idle = 0, 0, 0
     last_offer = time.perf_counter()
     while done < budget and time.perf_counter() < end and not ctx.should_stop() \
             and (stall is None or idle < stall):
         size = BALL_SIZES[round_ % len(BALL_SIZES)]
-        count = int(min(chunk, budget - done))
-        t0 = time.perf_counter()
+        count = int(min(round_kicks(problem, size), budget - done))
         value, best, gained = kern.ball_kicks(*parts, s, h, best_sigma, value, best, count, size,
                                               int(ctx.rng.integers(0, 2**31 - 1)), tol)
         idle = 0 if gained else idle + count
-        spent = time.perf_counter() - t0
         done, round_ = done + count, round_ + 1
-        chunk = max(100, min(4 * chunk, int(count * CHUNK_SECONDS / max(spent, 1e-9))))
         if time.perf_counter() - last_offer > OFFER_SECONDS:
             ctx.offer(best_sigma.astype(np.int8), problem.value(best_sigma))
             last_offer = time.perf_counter()

@@ -200,3 +200,22 @@ def test_ball_kicks_stop_when_they_stall():
     sigma, value, done = kick_search(problem, np.ones(6, dtype=np.int8), ctx, kicks=10**6, stall=5000)
     assert value == pytest.approx(6.0)  # ½σᵀKσ with K the cycle's adjacency: 6 satisfied edges
     assert done < 10**6
+
+
+def test_ball_kicks_without_a_time_limit_do_not_depend_on_the_clock(monkeypatch):
+    # determinism is the contract (DEVELOPERS.md): a fast and a slow clock must give the same state
+    from spinward.plugins.common import kicks
+
+    rng = np.random.default_rng(9)
+    g = nx.random_regular_graph(3, 300, seed=9)
+    upper = np.triu(nx.to_numpy_array(g) * rng.standard_normal((300, 300)), 1)
+    problem = CanonicalProblem(sp.csr_array(upper + upper.T), np.zeros(300))
+    start = np.where(rng.random(300) < 0.5, 1, -1).astype(np.int8)
+    runs = []
+    for step in (1e-9, 10.0):  # each clock read advances the fake clock by this much
+        ticks = iter(range(10**9))
+        monkeypatch.setattr(kicks.time, "perf_counter", lambda step=step: step * next(ticks))
+        sigma, value, done = kicks.kick_search(problem, start, SolveContext(rng=np.random.default_rng(2)),
+                                               kicks=50_000)
+        runs.append((sigma.tolist(), value, done))
+    assert runs[0] == runs[1]
