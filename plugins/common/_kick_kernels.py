@@ -3,8 +3,9 @@
 Flipping spin i changes C by gᵢ = −2σᵢhᵢ with h = Kσ + b.  A kick flips every spin of a
 breadth-first ball around a random spin, then repairs greedily (any spin of the ball or
 next to a flipped spin whose gain exceeds ``tol`` is flipped, until none is); the kicked
-and repaired state is kept when C did not drop by more than ``tol``, else every flip is
-undone.  Random numbers come from numba's generator seeded per call, so a call is a pure
+and repaired state is kept when C did not drop by more than ``tol`` (or, at a temperature
+T > 0, with the Metropolis probability of its drop), else every flip is undone.  Random
+numbers come from numba's generator seeded per call, so a call is a pure
 function of its arguments.  Imported lazily; compiled on first call and cached on disk.
 """
 
@@ -23,8 +24,11 @@ def _flip(i, indptr, indices, data, sigma, h):  # pragma: no cover - compiled
 
 
 @nb.njit(cache=True)
-def ball_kicks(indptr, indices, data, sigma, h, best_sigma, value, best, kicks, ball, seed, tol):  # pragma: no cover
+def ball_kicks(indptr, indices, data, sigma, h, best_sigma, value, best, kicks, ball, seed, tol, temp):  # pragma: no cover
     """Run ``kicks`` kicks with balls of up to ``ball`` spins; returns (value, best, kept).
+
+    A kick that lowers C by Δ > ``tol`` is kept with probability exp(−Δ/``temp``) when
+    ``temp`` > 0 (Metropolis on whole kicks), and always undone when ``temp`` = 0.
 
     ``sigma``/``h`` are updated in place; ``best_sigma`` receives the state whenever
     ``value`` beats ``best`` by more than ``tol``.  ``kept`` counts kicks that gained.
@@ -84,7 +88,7 @@ def ball_kicks(indptr, indices, data, sigma, h, best_sigma, value, best, kicks, 
                         queued[v] = True
                         work[wn] = v
                         wn += 1
-        if delta >= -tol:
+        if delta >= -tol or (temp > 0.0 and np.random.random() < np.exp(delta / temp)):
             value += delta
             if delta > tol:
                 kept += 1

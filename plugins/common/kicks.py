@@ -4,12 +4,16 @@ One kick flips the spins of a breadth-first ball around a random spin, repairs g
 with single flips, and is kept when C does not drop (plateau moves are allowed); otherwise
 it is undone.  A kick costs O(ball · degree), so millions run per second on sparse graphs,
 and a ball moves a connected cluster at once, which single flips at low temperature cannot.
-Ball sizes cycle through :data:`BALL_SIZES`.
+Ball sizes cycle through :data:`BALL_SIZES`.  With ``heat`` > 0 a kick that loses is kept
+with the Metropolis probability while the temperature falls linearly to 0 (annealing on
+ball moves).
 
 Measured on a 3-regular graph with Gaussian weights, n = 10⁴, from an annealed state
 (40 000 sweeps, cut 5450.8): 2·10⁶ kicks with 8-spin balls reached 5469.2 in 1.2 s, then
 cycling sizes 5474.9 after another 1.5 s; 16 000 more annealing sweeps from the same state
-at low temperature gained nothing.
+at low temperature gained nothing.  Annealed kicks from uniform random spins, the temperature
+falling from 0.6 × the RMS local field to 0 over 9 s, reached 5511.5 and 5516.0 (two seeds),
+above the best cut that 100 s of annealing followed by tabu search found (5499.5).
 """
 
 from __future__ import annotations
@@ -40,32 +44,44 @@ def round_kicks(problem: CanonicalProblem, size: int) -> int:
 
 def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext, *,
                 seconds: float | None = None, kicks: int | None = None,
-                stall: int | None = None) -> tuple[np.ndarray, float, int]:
+                stall: int | None = None, heat: float = 0.0) -> tuple[np.ndarray, float, int]:
     """Ball kicks from ``sigma`` until ``seconds`` pass, ``kicks`` are done, ``ctx`` stops, or
     ``stall`` kicks in a row (counted by whole kernel calls) gained nothing.
 
-    ``problem.kind`` must be "sparse".  Returns (best σ as int8 at a 1-flip local optimum,
-    its C, kicks run).
+    ``heat`` > 0 anneals: kicks that lose are kept with the Metropolis probability at a
+    temperature that falls linearly from ``heat`` (in units of C) to 0 over the run, measured
+    by the larger of the time and the kick fractions used (``seconds`` or ``kicks`` must be
+    given); ``stall`` counts only once the temperature is 0.  ``problem.kind`` must be "sparse".
+    Returns (best σ as int8 at a 1-flip local optimum, its C, kicks run).
     """
     from . import _kick_kernels as kern
 
+    if heat < 0 or not math.isfinite(heat):
+        raise ValueError(f"kick_search: heat must be a finite number ≥ 0, got {heat!r}")
+    if heat > 0 and seconds is None and kicks is None:
+        raise ValueError("kick_search: an annealed run (heat > 0) needs seconds or kicks to set its length")
     parts = csr_parts(problem)
     s = np.asarray(sigma, dtype=np.float64).copy()
     h = problem.local_fields(s)
     best_sigma = s.copy()
     value = best = problem.value(s)
     tol = flip_tolerance(problem)
-    end = math.inf if seconds is None else time.perf_counter() + seconds
+    begin = time.perf_counter()
+    end = math.inf if seconds is None else begin + seconds
     budget = math.inf if kicks is None else kicks
     done, round_, idle = 0, 0, 0
-    last_offer = time.perf_counter()
+    last_offer = begin
     while done < budget and time.perf_counter() < end and not ctx.should_stop() \
             and (stall is None or idle < stall):
         size = BALL_SIZES[round_ % len(BALL_SIZES)]
         count = int(min(round_kicks(problem, size), budget - done))
+        temp = 0.0
+        if heat > 0:
+            used = max(done / budget, 0.0 if seconds is None else (time.perf_counter() - begin) / max(seconds, 1e-9))
+            temp = heat * max(0.0, 1.0 - used)
         value, best, gained = kern.ball_kicks(*parts, s, h, best_sigma, value, best, count, size,
-                                              int(ctx.rng.integers(0, 2**31 - 1)), tol)
-        idle = 0 if gained else idle + count
+                                              int(ctx.rng.integers(0, 2**31 - 1)), tol, temp)
+        idle = 0 if (gained or temp > 0) else idle + count
         done, round_ = done + count, round_ + 1
         if time.perf_counter() - last_offer > OFFER_SECONDS:
             ctx.offer(best_sigma.astype(np.int8), problem.value(best_sigma))
