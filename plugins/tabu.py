@@ -213,9 +213,9 @@ def mean_degree(problem: Any) -> float:
     if hasattr(problem, "couplings"):
         return 2.0 * float(problem.couplings) / n
     if getattr(problem, "kind", None) == "sparse":
-        from .common.flips import csr_parts
+        from .common.flips import mean_degree as sparse_degree
 
-        return float(csr_parts(problem)[0][-1]) / n
+        return sparse_degree(problem)
     return float(n - 1)
 
 

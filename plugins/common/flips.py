@@ -37,6 +37,11 @@ def csr_parts(problem: CanonicalProblem) -> tuple[np.ndarray, np.ndarray, np.nda
     return parts
 
 
+def mean_degree(problem: CanonicalProblem) -> float:
+    """Stored couplings per spin of a sparse K (its mean degree when the diagonal is empty)."""
+    return float(csr_parts(problem)[0][-1]) / max(problem.n, 1)
+
+
 def local_search(problem: CanonicalProblem, sigma: np.ndarray, h: np.ndarray | None = None) -> tuple[np.ndarray, float]:
     """Climb from ``sigma`` to a 1-flip local optimum; returns (σ, C(σ)).
 

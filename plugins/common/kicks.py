@@ -25,7 +25,7 @@ import numpy as np
 
 from spinward.core import CanonicalProblem, SolveContext
 
-from .flips import csr_parts, flip_tolerance, local_search
+from .flips import csr_parts, flip_tolerance, local_search, mean_degree
 
 BALL_SIZES = (8, 4, 12, 6, 16, 24)
 ROUND_WORK = 4_000_000  # coupling visits per kernel call: about 0.03–0.06 s here
@@ -38,8 +38,7 @@ def round_kicks(problem: CanonicalProblem, size: int) -> int:
     The count depends on the problem, never on the clock, so a run without a time limit
     is the same on any machine and under any load (ball sizes and kernel seeds change per call).
     """
-    degree = csr_parts(problem)[0][-1] / max(problem.n, 1)
-    return max(100, int(ROUND_WORK / (2.0 * size * (degree + 1.0))))
+    return max(100, int(ROUND_WORK / (2.0 * size * (mean_degree(problem) + 1.0))))
 
 
 def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext, *,
