@@ -19,7 +19,7 @@ optimum and offered before the walk refines it:
   temperature falling linearly from 0.6 × the coupling scale to 0 over 90 % of the time
   left (300·n kicks without a time limit); see :func:`ball_anneal`.
 - "random": uniform random spins (plain tabu search).
-- "auto", the default: "ball-anneal" on sparse K with mean degree ≤ 5, else "anneal".
+- "auto", the default: "ball-anneal" on sparse K with mean degree ≤ 4.5, else "anneal".
 
 Option ``ball_kicks`` sets the count of (strict or annealed) ball kicks, 0 for none.  The
 same phases run from an ``initial`` state, so "auto"'s improver step uses them too.
@@ -64,7 +64,7 @@ KICK_SHARE = 0.8  # of the time left after the anneal, for ball kicks (sparse K)
 KICKS_PER_SPIN = 100  # ball kicks per spin without a time limit
 RESTART_ANNEAL_SHARE = 0.5  # a restart's anneal, relative to the first one's time
 STALL_PER_SPIN = 100  # with a time limit: kicks per spin without a gain before a fresh anneal restarts them
-BALL_ANNEAL_MAX_DEGREE = 5.0  # start "auto" anneals with ball kicks at or below this mean degree (sparse K)
+BALL_ANNEAL_MAX_DEGREE = 4.5  # start "auto" anneals with ball kicks at or below this mean degree (sparse K)
 BALL_ANNEAL_SHARE = 0.9  # of the time left, for annealed ball kicks before the walk
 BALL_HEAT = 0.6  # their start temperature, in units of the coupling scale (RMS local field)
 BALL_ANNEAL_KICKS_PER_SPIN = 300  # annealed ball kicks per spin without a time limit
@@ -291,8 +291,8 @@ def ball_anneal(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext)
     Measured, 9 s from random spins against the former default (a 5 s anneal, strict ball
     kicks, the walk; 10 s): 3-regular graphs with Gaussian weights, n = 10⁴, 5511–5516 against
     5472–5481; random 4-regular 6641–6653 against 6626; a 100×100 ±J torus 6992–6998 against
-    6988; but random 6-regular 8527–8538 against 8552, and G(n, 10/n) 11343 against 11421,
-    hence the degree limit.
+    6988; but random 5-regular 7664 against 7672, random 6-regular 8527–8538 against 8552,
+    and G(n, 10/n) 11343 against 11421, hence the degree limit between 4 and 5.
     """
     count = ball_count(ctx)
     if count == 0 or problem.n < 2:

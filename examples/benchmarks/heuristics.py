@@ -37,7 +37,7 @@ from spinward.plugins import annealing, tabu
 
 SOLVERS: dict[str, tuple[Callable[..., Any], dict[str, Any]]] = {
     "anneal": (annealing.run, {}),
-    "tabu": (tabu.run, {}),  # default start "auto": annealed ball kicks at mean degree ≤ 5, else annealing
+    "tabu": (tabu.run, {}),  # default start "auto": annealed ball kicks at mean degree ≤ 4.5, else annealing
     "tabu-random-start": (tabu.run, {"start": "random"}),  # plain tabu search
 }
 

@@ -270,7 +270,7 @@ def test_annealed_ball_kicks_never_lose_and_end_at_a_local_optimum():
 
 
 def test_start_auto_follows_the_mean_degree():
-    # mean degree 3 → annealed ball kicks; G(n, 10/n) (mean degree ≈ 10) and dense K → annealing first
+    # mean degree 3 and 4 → annealed ball kicks; 5, G(n, 10/n) (mean degree ≈ 10) and dense K → annealing first
     def start_of(K):
         sol, _ = solve(K, np.zeros(K.shape[0]), 0.0, moves=10, ball_kicks=10, seed=0)
         return sol.info["start"]
@@ -279,6 +279,10 @@ def test_start_auto_follows_the_mean_degree():
     gnp = sp.csr_array(nx.to_scipy_sparse_array(nx.fast_gnp_random_graph(400, 10 / 400, seed=0)) * -0.5)
     dense = np.random.default_rng(0).standard_normal((30, 30))
     assert start_of(regular) == "ball-anneal"
+    torus = nx.convert_node_labels_to_integers(nx.grid_2d_graph(12, 12, periodic=True))
+    assert start_of(sp.csr_array(nx.to_scipy_sparse_array(torus) * -0.5)) == "ball-anneal"
+    five = sp.csr_array(nx.to_scipy_sparse_array(nx.random_regular_graph(5, 200, seed=0)) * -0.5)
+    assert start_of(five) == "anneal"
     assert start_of(gnp) == "anneal"
     assert start_of(dense + dense.T) == "anneal"
     with pytest.raises(InputError, match="needs sparse couplings"):
