@@ -104,14 +104,19 @@ def test_explain_lists_every_solver_with_a_verdict():
 
 
 def test_torus_pm_j_reaches_published_energy():
-    # 2D ±J Edwards–Anderson, periodic L×L, e₀ ≈ −1.4017 per spin (Pal 1996; from memory, 1% asked)
+    # 2D ±J Edwards–Anderson, periodic L×L, e₀ ≈ −1.4017 per spin as L → ∞ (Pal 1996; from memory, 1% asked).
+    # One instance at L = 32 sits up to ±1% from that mean (measured here: −1.375 to −1.418 over these
+    # four), so the check is on the mean of four instances.
     L = 32
-    rng = np.random.default_rng(11)
-    torus = nx.grid_2d_graph(L, L, periodic=True)
-    J = {e: float(rng.choice([-1.0, 1.0])) for e in torus.edges}
-    r = spinward.solve(spinward.Ising(J, {}), seed=0, time_limit=30.0, bound=False)
-    assert r.solver in PORTFOLIO
-    assert r.objective / L ** 2 <= -1.4017 * 0.99
+    energies = []
+    for seed in (11, 12, 13, 14):
+        rng = np.random.default_rng(seed)
+        torus = nx.grid_2d_graph(L, L, periodic=True)
+        J = {e: float(rng.choice([-1.0, 1.0])) for e in torus.edges}
+        r = spinward.solve(spinward.Ising(J, {}), seed=0, time_limit=6.0, bound=False)
+        assert r.solver in PORTFOLIO
+        energies.append(r.objective / L ** 2)
+    assert np.mean(energies) <= -1.4017 * 0.99
 
 
 def test_dense_biased_qubo_goes_well(rng):
