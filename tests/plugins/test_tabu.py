@@ -102,7 +102,7 @@ def test_same_seed_same_answer(sparse):
     assert first.info == second.info
 
 
-@pytest.mark.parametrize("start", ["random", "anneal"])
+@pytest.mark.parametrize("start", ["random", "anneal", "auto"])  # "auto" on sparse: ball-anneal
 @pytest.mark.parametrize("sparse", [False, True])
 def test_time_limit_is_honoured_and_best_state_kept(sparse, start):
     g = nx.random_regular_graph(3, 3000, seed=2)
