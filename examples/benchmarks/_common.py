@@ -10,6 +10,23 @@ from pathlib import Path
 from typing import Any, Callable, Sequence
 
 
+def maxcut_canonical(n: int, edges: Any, weights: Any) -> Any:
+    """Weighted MaxCut on ``n`` nodes as canonical: K = −W/2, k₀ = total weight / 2, so C(σ) = cut weight.
+
+    ``edges`` is an (m, 2) integer array, ``weights`` its m edge weights.
+    """
+    import numpy as np
+    import scipy.sparse as sp
+
+    from spinward.core import CanonicalProblem
+
+    edges = np.asarray(edges, dtype=np.int64).reshape(-1, 2)
+    w = np.asarray(weights, dtype=np.float64)
+    rows, cols = np.r_[edges[:, 0], edges[:, 1]], np.r_[edges[:, 1], edges[:, 0]]
+    W = sp.csr_array((np.r_[w, w], (rows, cols)), shape=(n, n))
+    return CanonicalProblem(-0.5 * W, np.zeros(n), float(w.sum()) / 2)
+
+
 def machine() -> dict[str, Any]:
     return {"python": platform.python_version(), "cpus": os.cpu_count(), "machine": platform.machine()}
 

@@ -25,15 +25,18 @@ from __future__ import annotations
 import argparse
 import json
 import pathlib
+import sys
 import time
 from typing import Any, Callable
 
 import networkx as nx
 import numpy as np
-import scipy.sparse as sp
 
-from spinward.core import CanonicalProblem, SolveContext
-from spinward.plugins import annealing, tabu
+sys.path.insert(0, str(pathlib.Path(__file__).parent))
+from _common import maxcut_canonical  # noqa: E402
+
+from spinward.core import CanonicalProblem, SolveContext  # noqa: E402
+from spinward.plugins import annealing, tabu  # noqa: E402
 
 SOLVERS: dict[str, tuple[Callable[..., Any], dict[str, Any]]] = {
     "anneal": (annealing.run, {}),
@@ -55,9 +58,7 @@ def maxcut_problem(graph: str, weights: str, n: int, seed: int) -> CanonicalProb
     g = nx.random_regular_graph(3, n, seed=seed) if graph == "3-regular" else nx.fast_gnp_random_graph(n, 10 / n, seed=seed)
     edges = np.array(g.edges(), dtype=np.int64).reshape(-1, 2)
     w = rng.choice([-1.0, 1.0], len(edges)) if weights == "pm1" else rng.standard_normal(len(edges))
-    rows, cols = np.r_[edges[:, 0], edges[:, 1]], np.r_[edges[:, 1], edges[:, 0]]
-    W = sp.csr_array((np.r_[w, w], (rows, cols)), shape=(n, n))
-    return CanonicalProblem(-0.5 * W, np.zeros(n), float(w.sum()) / 2)
+    return maxcut_canonical(n, edges, w)
 
 
 def run_solver(name: str, problem: CanonicalProblem, *, time_limit: float | None, seed: int = 0,

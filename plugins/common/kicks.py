@@ -68,12 +68,13 @@ def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext,
     begin = time.perf_counter()
     end = math.inf if seconds is None else begin + seconds
     budget = math.inf if kicks is None else kicks
+    per_call = {size: round_kicks(problem, size) for size in BALL_SIZES}
     done, round_, idle = 0, 0, 0
     last_offer = begin
     while done < budget and time.perf_counter() < end and not ctx.should_stop() \
             and (stall is None or idle < stall):
         size = BALL_SIZES[round_ % len(BALL_SIZES)]
-        count = int(min(round_kicks(problem, size), budget - done))
+        count = int(min(per_call[size], budget - done))
         temp = 0.0
         if heat > 0:
             used = max(done / budget, 0.0 if seconds is None else (time.perf_counter() - begin) / max(seconds, 1e-9))
