@@ -162,7 +162,7 @@ def check_dense_memory(n: int, copies: int = 2, itemsize: int = 8, what: str = "
     if need > limit:
         raise ResourceError(f"{what} for n = {n} needs about {need / 2**30:.1f} GiB, more than the "
                             f"{limit / 2**30:.1f} GiB available; pass a scipy.sparse matrix for sparse couplings, "
-                            f"or a float32 numpy memmap with method='descent' for dense ones")
+                            f"or a float32 numpy memmap with method='iamp' for dense ones")
 
 
 def first_appearance(keys: Iterable[Hashable]) -> list[Hashable]:

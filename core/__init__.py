@@ -3,7 +3,7 @@
 Core knows no particular solver and no file format; adapters and plugins build on it.
 """
 
-from .canonical import CanonicalProblem, drop_gauge_spin, is_operator, is_sparse
+from .canonical import CanonicalProblem, drop_ghost_spin, is_operator, is_sparse
 from .context import SolveContext, make_seed
 from .errors import (AssumptionWarning, FileFormatError, InputError, InputWarning, OptionWarning, PluginError,
                      ResourceError, SolverUnsuitableError, SpinwardError, SpinwardWarning, UnknownMethodError)
@@ -16,6 +16,6 @@ __all__ = [
     "AUTOLOAD_ENV", "ENTRY_POINT_GROUP", "AssumptionWarning", "Bound", "BoundSpec", "CanonicalProblem",
     "Capabilities", "FileFormatError", "InputError", "InputWarning", "OptionWarning", "PluginError",
     "ProblemForm", "Registry", "ResourceError", "Result", "Solution", "SolveContext", "SolverSpec",
-    "SolverUnsuitableError", "SpinwardError", "SpinwardWarning", "UnknownMethodError", "drop_gauge_spin",
+    "SolverUnsuitableError", "SpinwardError", "SpinwardWarning", "UnknownMethodError", "drop_ghost_spin",
     "hookimpl", "hookspec", "is_operator", "is_sparse", "make_seed",
 ]

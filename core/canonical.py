@@ -149,10 +149,10 @@ class CanonicalProblem:
             return self.n * (self.n - 1) // 2
         return int(np.count_nonzero(self.K) // 2)
 
-    def with_gauge_spin(self) -> "CanonicalProblem":
+    def with_ghost_spin(self) -> "CanonicalProblem":
         """An equivalent field-free problem on n+1 spins (extra spin last, meant to be +1).
 
-        C'(σ, σ₀) = ½σᵀKσ + σ₀ bᵀσ + k₀ equals C(σ₀σ); undo with :func:`drop_gauge_spin`.
+        C'(σ, σ₀) = ½σᵀKσ + σ₀ bᵀσ + k₀ equals C(σ₀σ); undo with :func:`drop_ghost_spin`.
         """
         n = self.n
         if self.kind == "sparse":
@@ -165,11 +165,11 @@ class CanonicalProblem:
             K2[:n, :n] = self.dense_K()
             K2[:n, n] = self.b
             K2[n, :n] = self.b
-        return CanonicalProblem(K2, np.zeros(n + 1), self.k0, tuple(range(n + 1)), form="gauge")
+        return CanonicalProblem(K2, np.zeros(n + 1), self.k0, tuple(range(n + 1)), form="ghost")
 
 
-def drop_gauge_spin(sigma: np.ndarray) -> np.ndarray:
-    """Remove the gauge spin (last) and flip all spins if it ended at −1."""
+def drop_ghost_spin(sigma: np.ndarray) -> np.ndarray:
+    """Remove the ghost spin (last) and flip all spins if it ended at −1."""
     s = np.asarray(sigma, dtype=np.int8)
     return (s[:-1] * s[-1]).astype(np.int8)
 

@@ -3,7 +3,7 @@
 Core names no solver: each spec declares its capabilities, its ``check`` (True
 or a reason) and its ``fit(profile)`` score; "auto" takes the runnable spec
 with the highest score.  Plugins rank themselves so that exact structural
-solvers beat descent on dense mean-field inputs, which beats the sparse
+solvers beat IAMP on dense mean-field inputs, which beats the sparse
 portfolio (see each plugin's ``fit``).
 """
 

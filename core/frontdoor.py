@@ -13,7 +13,7 @@ from typing import Any, Callable, cast
 
 import numpy as np
 
-from .canonical import CanonicalProblem, drop_gauge_spin
+from .canonical import CanonicalProblem, drop_ghost_spin
 from .context import SolveContext, interrupt_guard, make_seed
 from .errors import InputError, OptionWarning, SolverUnsuitableError, SpinwardError
 from .model import ProblemForm
@@ -71,9 +71,9 @@ def with_defaults(spec: SolverSpec, options: dict[str, Any]) -> dict[str, Any]:
 
 
 def run_spec(spec: SolverSpec, problem: CanonicalProblem, ctx: SolveContext) -> Solution:
-    """Run a spec, adding a gauge spin when it cannot take fields."""
-    gauge = problem.has_fields and not spec.capabilities.fields
-    target = problem.with_gauge_spin() if gauge else problem
+    """Run a spec, adding a ghost spin when it cannot take fields."""
+    ghost = problem.has_fields and not spec.capabilities.fields
+    target = problem.with_ghost_spin() if ghost else problem
     with interrupt_guard(ctx):
         try:
             sol = spec.run(target, ctx)
@@ -85,8 +85,8 @@ def run_spec(spec: SolverSpec, problem: CanonicalProblem, ctx: SolveContext) -> 
     sigma = _checked_spins(sol.sigma, target.n, spec.name)
     if ctx.best_sigma is not None and len(ctx.best_sigma) == target.n and ctx.best_value > target.value(sigma):
         sigma = ctx.best_sigma
-    if gauge:
-        sigma = drop_gauge_spin(sigma)
+    if ghost:
+        sigma = drop_ghost_spin(sigma)
     return Solution(sigma=sigma, exact=sol.exact and not ctx.interrupted, status=sol.status,
                     bound=sol.bound, info=dict(sol.info))
 

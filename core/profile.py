@@ -4,7 +4,7 @@ Cost: O(nnz) for the statistics and structure, plus a few Lanczos matvecs for
 the mean-field check on dense inputs; the treewidth heuristic runs only on
 small sparse graphs and only when the degeneracy (a lower bound) is small.
 
-Conventions (shared/CONVENTIONS.md, mean-field scale): m and s are the mean and
+Conventions (docs/conventions.md, the mean-field scale): m and s are the mean and
 standard deviation of the off-diagonal entries over all pairs, zeros included;
 A = (K − m(11ᵀ − I)) / (s√n) should have its spectrum in [−2, 2] when the
 couplings are dense, mean-zero and i.i.d.-like.

@@ -33,7 +33,7 @@ class Capabilities:
     """What a solver declares about itself, once; dispatch reads only this and ``check``."""
 
     exact: bool = False          # proves optimality when it finishes
-    fields: bool = True          # handles b ≠ 0 (else the core adds a gauge spin)
+    fields: bool = True          # handles b ≠ 0 (else the core adds a ghost spin)
     dense: bool = True           # accepts dense K
     sparse: bool = True          # accepts sparse K efficiently
     operator: bool = False       # accepts a matrix-free LinearOperator K

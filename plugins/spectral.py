@@ -42,7 +42,7 @@ def signs(x: np.ndarray, lifted: bool) -> np.ndarray:
 
 def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     """Sign of the top eigenvector of the lift, polished by single flips."""
-    lifted = problem.with_gauge_spin() if problem.has_fields else problem
+    lifted = problem.with_ghost_spin() if problem.has_fields else problem
     x = top_eigenvector(lifted, ctx.rng)
     sigma, value = local_search(problem, signs(x, lifted is not problem))
     ctx.offer(sigma, value)

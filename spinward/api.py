@@ -24,7 +24,7 @@ BUILTIN_PLUGINS: tuple[str, ...] = (
     "spinward.plugins.sdp",
     "spinward.plugins.annealing",
     "spinward.plugins.tabu",
-    "spinward.plugins.descent",
+    "spinward.plugins.iamp",
 )
 
 _lock = threading.Lock()

@@ -106,7 +106,7 @@ def cmd_bound(args: argparse.Namespace) -> int:
 
 
 def cmd_parisi(args: argparse.Namespace) -> int:
-    from .plugins.descent.parisi import format_parisi_table, parisi_table
+    from .plugins.iamp.parisi import format_parisi_table, parisi_table
 
     ks = tuple(args.k) if args.k else (0, 1, 2, 3, 5, 10, 20, 50)
     print(format_parisi_table(parisi_table(ks=ks)))

@@ -12,10 +12,9 @@ from __future__ import annotations
 
 import json
 from pathlib import Path
-from typing import Annotated, Any, Hashable, Literal, Union
+from typing import Any, Hashable
 
 import numpy as np
-from pydantic import BaseModel, ConfigDict, Field, ValidationError, model_validator
 
 from spinward.core.errors import FileFormatError
 
@@ -24,51 +23,22 @@ from ..ising import Ising
 from ..qubo import QUBO
 from .safety import read_text
 
-Label = Union[int, str, list[Any]]
 SCHEMA = "spinward.problem/1"
+#: fields each form's document may hold (besides "schema" and "form")
+FIELDS = {"qubo": ("matrix", "terms", "labels", "offset"),
+          "ising": ("fields", "couplings", "offset"),
+          "maxcut": ("nodes", "edges")}
+#: largest integer magnitude a float64 holds exactly
+EXACT_INT = 2**53
+#: tuple labels may nest this deep (a guard against pathological documents)
+MAX_LABEL_DEPTH = 16
 
 
-class _Doc(BaseModel):
-    model_config = ConfigDict(extra="forbid", frozen=True)
-    schema_: str = Field(SCHEMA, alias="schema")
+class DocumentError(Exception):
+    """A defect at a place in the document; the reader adds the file name."""
 
-
-class QuboDoc(_Doc):
-    form: Literal["qubo"]
-    matrix: list[list[float]] | None = None
-    terms: list[tuple[Label, Label, float]] | None = None
-    labels: list[Label] | None = None
-    offset: float = 0.0
-
-    @model_validator(mode="after")
-    def _one_of(self) -> "QuboDoc":
-        if (self.matrix is None) == (self.terms is None):
-            raise ValueError("give exactly one of 'matrix' or 'terms'")
-        return self
-
-
-class IsingDoc(_Doc):
-    form: Literal["ising"]
-    fields: list[tuple[Label, float]] = []
-    couplings: list[tuple[Label, Label, float]] = []
-    offset: float = 0.0
-
-
-class MaxCutDoc(_Doc):
-    form: Literal["maxcut"]
-    nodes: list[Label] = []
-    edges: list[tuple[Label, Label, float]] | list[tuple[Label, Label]] = []
-
-
-Document = Annotated[Union[QuboDoc, IsingDoc, MaxCutDoc], Field(discriminator="form")]
-
-
-class _Wrapper(BaseModel):
-    doc: Document
-
-
-def _label(x: Any) -> Hashable:
-    return tuple(_label(v) for v in x) if isinstance(x, list) else x
+    def __init__(self, where: str, message: str) -> None:
+        super().__init__(f"{where}: {message}" if where else message)
 
 
 def read_json_problem(p: Path) -> Any:
@@ -77,38 +47,146 @@ def read_json_problem(p: Path) -> Any:
         raw = json.loads(text)
     except json.JSONDecodeError as exc:
         raise FileFormatError(f"{p}:{exc.lineno}: malformed JSON ({exc.msg})") from None
+    except RecursionError:
+        raise FileFormatError(f"{p}: the JSON nests too deeply to be a problem document") from None
     try:
-        doc = _Wrapper(doc=raw).doc
-    except ValidationError as exc:
-        first = exc.errors()[0]
-        where = ".".join(str(x) for x in first["loc"][1:])
-        raise FileFormatError(f"{p}: invalid problem document at {where or 'top level'}: {first['msg']}") from None
-    return from_document(doc)
+        return from_document(raw)
+    except DocumentError as exc:
+        raise FileFormatError(f"{p}: invalid problem document: {exc}") from None
 
 
-def from_document(doc: Any) -> Any:
-    if isinstance(doc, QuboDoc):
-        if doc.matrix is not None:
-            labels = None if doc.labels is None else [_label(x) for x in doc.labels]
-            return QUBO(doc.matrix, offset=doc.offset, labels=labels)
-        terms: dict[Any, float] = {}
-        for i, j, q in doc.terms or []:
-            key = (_label(i), _label(j))
-            terms[key] = terms.get(key, 0.0) + q
-        return QUBO(terms, offset=doc.offset)
-    if isinstance(doc, IsingDoc):
-        J: dict[Any, float] = {}
-        for i, j, v in doc.couplings:
-            key = (_label(i), _label(j))
-            J[key] = J.get(key, 0.0) + v
-        return Ising(J, {_label(k): v for k, v in doc.fields}, offset=doc.offset)
+def from_document(raw: Any) -> Any:
+    """The form a parsed JSON document describes; :class:`DocumentError` names the first defect."""
+    if not isinstance(raw, dict):
+        raise DocumentError("", f"a problem document is a JSON object, got {_kind(raw)}")
+    form = raw.get("form")
+    if form not in FIELDS:
+        raise DocumentError("form", f"must be one of {', '.join(map(repr, FIELDS))}, got {form!r}")
+    if raw.get("schema", SCHEMA) != SCHEMA:
+        raise DocumentError("schema", f"must be {SCHEMA!r} (or left out), got {raw['schema']!r}")
+    unknown = sorted(set(raw) - {"schema", "form", *FIELDS[form]})
+    if unknown:
+        raise DocumentError(unknown[0], f"unknown field in a {form} document (it may hold: "
+                                        f"{', '.join(FIELDS[form])})")
+    return {"qubo": _qubo, "ising": _ising, "maxcut": _maxcut}[form](raw)
+
+
+def _qubo(doc: dict[str, Any]) -> QUBO:
+    offset = _number(doc.get("offset", 0), "offset")
+    if ("matrix" in doc) == ("terms" in doc):
+        raise DocumentError("", "a qubo document gives exactly one of 'matrix' (rows of numbers) or "
+                                "'terms' (a list of [i, j, q])")
+    if "matrix" in doc:
+        rows = _array(doc["matrix"], "matrix")
+        for i, row in enumerate(rows):
+            if len(_array(row, f"matrix[{i}]", "a row (an array of numbers)")) != len(rows):
+                raise DocumentError(f"matrix[{i}]", f"has {len(row)} entries, but a QUBO matrix is square "
+                                                    f"({len(rows)} rows)")
+        matrix = [[_number(v, f"matrix[{i}][{j}]") for j, v in enumerate(row)] for i, row in enumerate(rows)]
+        labels = None
+        if "labels" in doc:
+            labels = [_label(x, f"labels[{k}]") for k, x in enumerate(_array(doc["labels"], "labels"))]
+        return QUBO(np.array(matrix, dtype=np.float64).reshape(len(matrix), len(matrix)), offset=offset,
+                    labels=labels)
+    # With 'labels', every listed variable exists (in that order), even one that no term names.
+    declared = [_label(x, f"labels[{k}]") for k, x in enumerate(_array(doc.get("labels", []), "labels"))]
+    terms: dict[Any, float] = {(label, label): 0.0 for label in declared}
+    known = set(declared)
+    for k, (i, j, q) in enumerate(_triples(doc["terms"], "terms", "a coefficient")):
+        for side, name in enumerate((i, j)):
+            if known and name not in known:
+                raise DocumentError(f"terms[{k}][{side}]", f"label {name!r} is not among 'labels'")
+        terms[(i, j)] = terms.get((i, j), 0.0) + q
+    return QUBO(terms, offset=offset)
+
+
+def _ising(doc: dict[str, Any]) -> Ising:
+    offset = _number(doc.get("offset", 0), "offset")
+    fields: dict[Any, float] = {}
+    for k, entry in enumerate(_array(doc.get("fields", []), "fields")):
+        where = f"fields[{k}]"
+        pair = _array(entry, where, "a [label, h] pair")
+        if len(pair) != 2:
+            raise DocumentError(where, f"a field is a [label, h] pair, got {len(pair)} entries")
+        label = _label(pair[0], f"{where}[0]")
+        fields[label] = fields.get(label, 0.0) + _number(pair[1], f"{where}[1]")
+    J: dict[Any, float] = {}
+    for i, j, v in _triples(doc.get("couplings", []), "couplings", "a coupling J"):
+        J[(i, j)] = J.get((i, j), 0.0) + v
+    return Ising(J, fields, offset=offset)
+
+
+def _maxcut(doc: dict[str, Any]) -> MaxCut:
     import networkx as nx
 
     g = nx.MultiGraph()
-    g.add_nodes_from(_label(x) for x in doc.nodes)
-    for e in doc.edges:
-        g.add_edge(_label(e[0]), _label(e[1]), weight=e[2] if len(e) == 3 else 1.0)
+    g.add_nodes_from(_label(x, f"nodes[{k}]") for k, x in enumerate(_array(doc.get("nodes", []), "nodes")))
+    edges = _array(doc.get("edges", []), "edges")
+    weighted = any(isinstance(e, list) and len(e) == 3 for e in edges)
+    for k, entry in enumerate(edges):
+        where = f"edges[{k}]"
+        edge = _array(entry, where, "an edge [u, v] or [u, v, weight]")
+        if len(edge) == 2 and weighted:
+            raise DocumentError(where, "a weight is required (a number): other edges carry one, so every edge must")
+        if len(edge) not in (2, 3):
+            raise DocumentError(where, f"an edge is [u, v] or [u, v, weight], got {len(edge)} entries")
+        u, v = _label(edge[0], f"{where}[0]"), _label(edge[1], f"{where}[1]")
+        g.add_edge(u, v, weight=_number(edge[2], f"{where}[2]") if weighted else 1.0)
     return MaxCut(g)
+
+
+def _triples(value: Any, name: str, what: str) -> list[tuple[Hashable, Hashable, float]]:
+    out = []
+    for k, entry in enumerate(_array(value, name)):
+        where = f"{name}[{k}]"
+        triple = _array(entry, where, "an [i, j, value] triple")
+        if len(triple) == 2:
+            raise DocumentError(where, f"{what} is required (a number) after the two labels")
+        if len(triple) != 3:
+            raise DocumentError(where, f"an entry is [i, j, value], got {len(triple)} entries")
+        out.append((_label(triple[0], f"{where}[0]"), _label(triple[1], f"{where}[1]"),
+                    _number(triple[2], f"{where}[2]")))
+    return out
+
+
+def _kind(value: Any) -> str:
+    if isinstance(value, bool):
+        return f"a boolean ({str(value).lower()})"
+    if isinstance(value, (int, float)):
+        return f"a number ({value!r})"
+    if isinstance(value, str):
+        return f"a string ({value!r})"
+    if value is None:
+        return "null"
+    return "an array" if isinstance(value, list) else "an object"
+
+
+def _array(value: Any, where: str, what: str = "an array") -> list[Any]:
+    if not isinstance(value, list):
+        raise DocumentError(where, f"expected {what}, got {_kind(value)}")
+    return value
+
+
+def _number(value: Any, where: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise DocumentError(where, f"expected a number, got {_kind(value)}")
+    if isinstance(value, int) and abs(value) > EXACT_INT:
+        raise DocumentError(where, f"the integer {value} is beyond 2**53, where float64 is no longer exact; "
+                                   f"divide the data by a common factor")
+    if not np.isfinite(value):
+        raise DocumentError(where, f"{value!r} is not a finite number")
+    return float(value)
+
+
+def _label(value: Any, where: str, depth: int = 0) -> Hashable:
+    """A label: an integer, a string, or an array of labels (read back as a tuple)."""
+    if isinstance(value, list):
+        if depth >= MAX_LABEL_DEPTH:
+            raise DocumentError(where, f"a label nests deeper than {MAX_LABEL_DEPTH} arrays")
+        return tuple(_label(v, f"{where}[{k}]", depth + 1) for k, v in enumerate(value))
+    if isinstance(value, bool) or not isinstance(value, (int, str)):
+        raise DocumentError(where, f"a label is an integer, a string or an array of labels, got {_kind(value)}")
+    return value
 
 
 def _jlabel(x: Hashable) -> Any:

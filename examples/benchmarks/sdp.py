@@ -2,7 +2,7 @@
 
 Canonical sense: maximise ½σᵀKσ (no fields).  Dense instances use the SK
 normalisation K = J/√n, Jᵢⱼ ~ N(0, 1), so values per spin are H/n in the
-convention of shared/REFERENCES.md; the sparse ones are G(n, d/n) with
+convention of docs/references.md; the sparse ones are G(n, d/n) with
 Gaussian weights scaled by 1/√d.  A "reference" is a long, warm-started solve
 of the same SDP (tolerance 1e-9); the true SDP value lies in [ref primal, ref dual].
 

@@ -1,4 +1,4 @@
-"""Working copies of the couplings K for the numba kernels (shared by annealing, tabu and descent).
+"""Working copies of the couplings K for the numba kernels (shared by annealing, tabu and IAMP).
 
 A float32 copy of a dense K halves the memory traffic of matvecs and O(n) row updates; the
 values that solvers report are always recomputed from the caller's K, so the copy only steers

@@ -1,7 +1,7 @@
 """The SDP relaxation by a Burer–Monteiro factor, solved with the mixing method.
 
 Canonical sense: the integer problem is max ½σᵀKσ + bᵀσ + k₀ over σ ∈ {±1}ⁿ.
-Fields enter through a ghost spin (``CanonicalProblem.with_gauge_spin``, the
+Fields enter through a ghost spin (``CanonicalProblem.with_ghost_spin``, the
 ghost last), so the relaxation is always the field-free
 
     max ½⟨K', X⟩ + k₀  over X ⪰ 0, diag X = 1,   X = VVᵀ, V ∈ ℝ^{N×k}, unit rows,
@@ -50,7 +50,7 @@ def lift(problem: CanonicalProblem) -> CanonicalProblem:
         return problem
     lifted = problem.meta.get("_sdp_lift")
     if not isinstance(lifted, CanonicalProblem):
-        lifted = problem.with_gauge_spin()
+        lifted = problem.with_ghost_spin()
         problem.meta["_sdp_lift"] = lifted
     return lifted
 

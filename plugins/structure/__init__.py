@@ -1,4 +1,4 @@
-"""Exact solvers for structured inputs: ferromagnets (min-cut), frustration-free couplings (gauge)
+"""Exact solvers for structured inputs: ferromagnets (min-cut), frustration-free couplings (unfrustrated)
 and low treewidth (tree DP).
 
 Canonical sense everywhere: maximise ½σᵀKσ + bᵀσ + k₀.  Each solver's ``check``
@@ -20,10 +20,10 @@ def _run_mincut(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     return mincut.solve_ferromagnet(problem, ctx)
 
 
-def _run_gauge(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
-    from . import gauge
+def _run_unfrustrated(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    from . import unfrustrated
 
-    return gauge.solve_frustration_free(problem, ctx)
+    return unfrustrated.solve_frustration_free(problem, ctx)
 
 
 def _run_treedp(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
@@ -38,10 +38,10 @@ def _check_mincut(problem: CanonicalProblem) -> bool | str:
     return mincut.check(problem)
 
 
-def _check_gauge(problem: CanonicalProblem) -> bool | str:
-    from . import gauge
+def _check_unfrustrated(problem: CanonicalProblem) -> bool | str:
+    from . import unfrustrated
 
-    return gauge.check(problem)
+    return unfrustrated.check(problem)
 
 
 def _check_treedp(problem: CanonicalProblem) -> bool | str:
@@ -70,9 +70,9 @@ SPECS = [
         options={"max_levels": 12},
     ),
     SolverSpec(
-        name="gauge", run=_run_gauge, check=_check_gauge, fit=_fit(90.0),
+        name="unfrustrated", run=_run_unfrustrated, check=_check_unfrustrated, fit=_fit(90.0),
         capabilities=Capabilities(**_EXACT),
-        summary="exact gauge fixing for frustration-free couplings; min-cut when there are fields",
+        summary="exact for couplings with no frustrated cycle: spin flips make them ferromagnetic (min-cut with fields)",
         options={"max_levels": 12},
     ),
     SolverSpec(

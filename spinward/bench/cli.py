@@ -1,15 +1,14 @@
 """The ``bench`` and ``report`` commands.  Only argparse at import; the harness loads inside each command.
 
 ``add_bench_parser(subparsers)`` and ``add_report_parser(subparsers)`` add them to
-the ``spinward`` command line (each sets ``func`` on its namespace); ``main`` hands
-``python -m spinward.bench.cli bench SUITE.toml --db results.sqlite`` to the ``spinward`` command.
+the ``spinward`` command line (each sets ``func`` on its namespace).  The arrow runs one
+way: ``spinward.cli`` collects these subcommands, and this module never imports it.
 """
 
 from __future__ import annotations
 
 import argparse
 import sys
-from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 
@@ -95,14 +94,3 @@ def cmd_report(args: argparse.Namespace) -> int:
     if args.html:
         print(f"report written to {args.html}")
     return 0
-
-
-def main(argv: Sequence[str] | None = None) -> int:
-    """``python -m spinward.bench.cli bench|report ...``: the same as ``spinward bench|report ...``."""
-    from spinward.cli import main as spinward_main
-
-    return spinward_main(argv)
-
-
-if __name__ == "__main__":
-    raise SystemExit(main())

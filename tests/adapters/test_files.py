@@ -113,6 +113,32 @@ def test_json_errors_are_named(tmp_path):
         read_problem(p)
 
 
+MALFORMED_DOCUMENTS = [
+    # (document, the message fragment in the document's own terms)
+    ({"form": "qubo", "terms": [[0, 1, 2.0], [1, 2]]}, "terms[1]: a coefficient is required (a number)"),
+    ({"form": "qubo", "matrix": [[1, 2], [3]]}, "matrix[1]: has 1 entries, but a QUBO matrix is square"),
+    ({"form": "qubo", "terms": [[0, 1.5, 2.0]]}, "terms[0][1]: a label is an integer, a string or an array"),
+    ({"form": "ising", "couplings": [["a", "b", "strong"]]}, "couplings[0][2]: expected a number, got a string"),
+    ({"form": "ising", "fields": [["a"]]}, "fields[0]: a field is a [label, h] pair, got 1 entries"),
+    ({"form": "ising", "couplings": [], "field": []}, "field: unknown field in a ising document"),
+    ({"form": "maxcut", "edges": [[0, 1, 2.5], [1, 2]]}, "edges[1]: a weight is required (a number)"),
+    ({"form": "maxcut", "edges": [[0, 1, True]]}, "edges[0][2]: expected a number, got a boolean"),
+    ({"form": "maxcut", "nodes": {"a": 1}}, "nodes: expected an array, got an object"),
+]
+
+
+@pytest.mark.parametrize("doc, fragment", MALFORMED_DOCUMENTS)
+def test_malformed_documents_are_named_in_their_own_terms(tmp_path, doc, fragment):
+    p = tmp_path / "p.json"
+    p.write_text(json.dumps(doc))
+    with pytest.raises(spinward.FileFormatError) as caught:
+        read_problem(p)
+    message = str(caught.value)
+    assert fragment in message, message
+    for typing_word in ("tuple[", "union[", "list[", "Field required"):
+        assert typing_word not in message, message
+
+
 def test_size_limit_and_unknown_extension(tmp_path, monkeypatch):
     p = tmp_path / "big.mtx"
     p.write_text("%%MatrixMarket matrix coordinate real general\n1 1 1\n1 1 1.0\n")

@@ -1,4 +1,4 @@
-"""MaxCut adapter and front door on graphs with known cuts (shared/REFERENCES.md, 'Exact facts for small graphs')."""
+"""MaxCut adapter and front door on graphs with known cuts (elementary facts and graph-theory folklore; docs/references.md)."""
 
 from __future__ import annotations
 
@@ -15,7 +15,7 @@ def _cut(g, result, weight="weight"):
 
 
 def test_petersen_graph_is_12():
-    # Petersen graph MaxCut = 12: common knowledge in graph theory (from memory, REFERENCES.md)
+    # Petersen graph MaxCut = 12: common knowledge in graph theory (from memory)
     r = spinward.solve(nx.petersen_graph())
     assert r.objective == 12 and r.exact and r.sense == "max"
     assert _cut(nx.petersen_graph(), r) == 12

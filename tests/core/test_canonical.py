@@ -1,4 +1,4 @@
-"""The canonical form: values, local fields, the gauge spin, validation."""
+"""The canonical form: values, local fields, the ghost spin, validation."""
 
 from __future__ import annotations
 
@@ -7,7 +7,7 @@ import itertools
 import numpy as np
 import pytest
 
-from spinward.core import CanonicalProblem, InputError, drop_gauge_spin
+from spinward.core import CanonicalProblem, InputError, drop_ghost_spin
 
 
 def _random(n, rng, fields=True):
@@ -28,11 +28,11 @@ def test_value_and_flip_gain(rng):
 
 def test_gauge_spin_is_equivalent(rng):
     p = _random(6, rng)
-    g = p.with_gauge_spin()
+    g = p.with_ghost_spin()
     assert not g.has_fields and g.n == 7
     for bits in itertools.product((-1, 1), repeat=7):
         s = np.array(bits)
-        assert g.value(s) == pytest.approx(p.value(drop_gauge_spin(s)))
+        assert g.value(s) == pytest.approx(p.value(drop_ghost_spin(s)))
 
 
 def test_shapes_checked():

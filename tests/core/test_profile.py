@@ -1,4 +1,4 @@
-"""The structural profile against outside facts (shared/REFERENCES.md) and networkx."""
+"""The structural profile against outside facts (named beside each check) and networkx."""
 
 from __future__ import annotations
 

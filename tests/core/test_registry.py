@@ -25,6 +25,15 @@ def test_unknown_method_lists_available_names():
     assert "no-such-solver" in text and "enumerate" in text and "local" in text and "auto" in text
 
 
+@pytest.mark.parametrize("old", ["descent", "gauge"])
+def test_former_names_have_no_alias(old):
+    with pytest.raises(spinward.UnknownMethodError) as err:
+        spinward.solve(nx.path_graph(3), method=old)
+    text = str(err.value)
+    assert f"unknown method {old!r}" in text
+    assert all(name in text for name in ("iamp", "unfrustrated", "anneal", "tabu"))
+
+
 def test_programmatic_registration_and_duplicate_names():
     reg = Registry(autoload=False)
     reg.add_solver(_spec())

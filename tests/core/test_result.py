@@ -1,4 +1,4 @@
-"""The result model: frozen, JSON round trip, CSV, gap definition (shared/CONVENTIONS.md, Bounds)."""
+"""The result model: frozen, JSON round trip, CSV, gap definition (docs/conventions.md, Bounds)."""
 
 from __future__ import annotations
 

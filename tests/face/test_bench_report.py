@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 
-from spinward.bench.cli import main as bench_main
+from spinward.cli import main as bench_main
 from spinward.bench.page import build_report, html_page
 from spinward.bench.report import summarise
 from spinward.bench.store import Store

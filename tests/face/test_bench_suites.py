@@ -36,7 +36,7 @@ def test_full_suite_covers_the_study():
     assert min(sizes["sk"]) == 1000 and max(sizes["sk"]) == 8000
     assert {"regular", "sparse_er"} <= set(sizes)
     names = {s.name for s in suite.solvers}
-    assert {"descent", "anneal", "tabu", "sdp"} <= names
+    assert {"iamp", "anneal", "tabu", "sdp"} <= names
     runs, _ = expand(suite, sorted(names))
     assert len(runs) == len(instances(suite)) * len(names) * len(suite.seeds)
 

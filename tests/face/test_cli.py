@@ -22,7 +22,7 @@ def test_solve_file_prints_summary_and_writes_json(tmp_path, capsys):
     assert code == 0
     assert "objective: 12" in out and "maximise" in out and "enumerate" in out and "optimal" in out
     r = spinward.Result.from_json((tmp_path / "r.json").read_text())
-    assert r.objective == 12 and r.seed == 3  # Petersen graph: 12 (REFERENCES.md, from memory)
+    assert r.objective == 12 and r.seed == 3  # Petersen graph MaxCut = 12 (graph-theory folklore, from memory)
     assert (tmp_path / "a.csv").read_text().startswith("label,value\n")
 
 
@@ -36,6 +36,7 @@ def test_demo_runs(capsys):
     (["solve", "missing.mtx"], "no such file"),
     (["solve", "{bad}", "--method", "local"], "malformed JSON"),
     (["solve", "{good}", "--method", "nonesuch"], "unknown method 'nonesuch'"),
+    (["solve", "{good}", "--method", "descent"], "unknown method 'descent'; available: auto, anneal, enumerate, iamp"),
     (["solve", "{good}", "--time-limit", "-1"], "time_limit must be a positive"),
     (["solve"], "the following arguments are required"),
     (["solve", "{good}", "--seed", "abc"], "invalid int value"),

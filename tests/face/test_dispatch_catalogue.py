@@ -1,7 +1,8 @@
 """"auto" on a catalogue of instance families: the expected method family, exact where it says so.
 
 Outside references: scipy.optimize.milp (zero gap) and networkx; the 2D ±J value and the
-dense G(n, p) prediction come from shared/REFERENCES.md (both from memory / derived).
+dense G(n, p) prediction are the Parisi value P* = 0.7631667 (Crisanti & Rizzo 2002, from memory)
+and the dense G(n, p) MaxCut line derived from it (docs/references.md).
 """
 
 from __future__ import annotations
@@ -13,8 +14,8 @@ import pytest
 import spinward
 from tests.references import milp_maxcut
 
-EXACT = {"enumerate", "mincut", "gauge", "treedp"}
-MEAN_FIELD = {"descent"}
+EXACT = {"enumerate", "mincut", "unfrustrated", "treedp"}
+MEAN_FIELD = {"iamp"}
 PORTFOLIO = {"anneal", "tabu", "sdp", "local"}
 
 
@@ -30,7 +31,7 @@ def _edges(g):
 
 
 @pytest.mark.parametrize("pm", [False, True])
-def test_sk_goes_to_descent(pm, rng):
+def test_sk_goes_to_iamp(pm, rng):
     n = 400
     J = np.where(rng.random((n, n)) < 0.5, -1.0, 1.0) if pm else rng.normal(size=(n, n))
     r = spinward.solve(spinward.Ising(np.triu(J, 1)), seed=0, explain=True)
@@ -40,8 +41,8 @@ def test_sk_goes_to_descent(pm, rng):
     assert 0.95 < r.objective / r.info["prediction"]["optimum"] <= 1.02
 
 
-def test_dense_gnp_goes_to_descent_and_reaches_the_derived_prediction():
-    # dense G(n, p) row of REFERENCES.md (derived from the SK row): p·n(n−1)/4 + ½√(p(1−p))·P*·n^{3/2}
+def test_dense_gnp_goes_to_iamp_and_reaches_the_derived_prediction():
+    # derived from the Parisi value (Crisanti & Rizzo 2002, from memory; derivation in docs/references.md): p·n(n−1)/4 + ½√(p(1−p))·P*·n^{3/2}
     n, p = 600, 0.5
     g = nx.gnp_random_graph(n, p, seed=3)
     r = spinward.solve(g, seed=0)
@@ -123,7 +124,7 @@ def test_dense_biased_qubo_goes_well(rng):
     # A dense QUBO whose off-diagonal entries have mean 0.5: its diagonal is chosen so that the linear
     # terms cancel in spin form, leaving couplings with a negative mean (a rank-one part favouring
     # assignments with as many 1s as 0s).  Threshold derived as for the dense G(n, p) row of
-    # REFERENCES.md: C* ≈ k₀ + |m|·n/2 + s·n^{3/2}·P*, with the finite-size slack 0.735 in place of P*.
+    # Parisi prediction (Crisanti & Rizzo 2002, P* from memory): C* ≈ k₀ + |m|·n/2 + s·n^{3/2}·P*, with the finite-size slack 0.735 in place of P*.
     n = 600
     Q = 0.5 + rng.normal(size=(n, n))
     np.fill_diagonal(Q, 0.0)

@@ -69,7 +69,7 @@ def test_time_limit_is_honoured_and_best_state_kept():
 
 def test_options_are_checked():
     K, b, k0 = random_instance(np.random.default_rng(0), 5)
-    for bad in ({"sweeps": 0}, {"schedule": "cosine"}, {"rule": "glauber-ish"}, {"beta_range": (2.0, 1.0)},
+    for bad in ({"sweeps": 0}, {"schedule": "cosine"}, {"rule": "glauber-ish"}, {"beta_span": (2.0, 1.0)},
                 {"precision": "float16"}):
         with pytest.raises(InputError):
             solve(K, b, k0, **bad)
@@ -82,7 +82,7 @@ def test_schedule_follows_the_coupling_scale():
     small, _ = solve(K, b, k0, seed=4, sweeps=300)
     large, _ = solve(10.0 * K, 10.0 * b, k0, seed=4, sweeps=300)
     assert np.array_equal(small.sigma, large.sigma)
-    assert large.info["beta_range"][0] == pytest.approx(small.info["beta_range"][0] / 10.0)
+    assert large.info["beta_span"][0] == pytest.approx(small.info["beta_span"][0] / 10.0)
 
 
 def sk_energy_per_spin(n: int, seed: int, time_limit: float | None = None, **options) -> float:

@@ -1,4 +1,4 @@
-"""The working copy of K shared by the annealing, tabu and descent solvers (plugins/common/couplings.py).
+"""The working copy of K shared by the annealing, tabu and IAMP solvers (plugins/common/couplings.py).
 
 Outside check: energies recomputed plainly from the caller's K (tests/references.py own_value).
 """

@@ -1,4 +1,4 @@
-"""Zero-temperature Parisi solver: values against shared/REFERENCES.md and an independent quadrature."""
+"""Zero-temperature Parisi solver: values against published ones (named beside each check) and an independent quadrature."""
 
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 from scipy import integrate, special
 
-from spinward.plugins.descent import parisi
+from spinward.plugins.iamp import parisi
 
 
 @pytest.fixture(autouse=True)
@@ -25,21 +25,21 @@ def test_replica_symmetric_value_is_sqrt_2_over_pi():
 
 
 def test_one_step_value():
-    # REFERENCES.md: 1RSB ≈ 0.7652 (Parisi 1979–80), from memory, tolerance 5e-4.
+    # 1RSB ≈ 0.7652 (Parisi 1979–80), from memory, tolerance 5e-4.
     sol, _ = parisi.cached_solve(1)
     assert abs(sol.value - 0.7652) < 5e-4
     assert 0 < sol.q[0] < 1 and sol.m[0] > 0
 
 
 def test_full_rsb_value():
-    # REFERENCES.md: P* = 0.7631667 ± 1e-6 (Crisanti & Rizzo 2002), from memory; we allow 2e-6.
+    # P* = 0.7631667 ± 1e-6 (Crisanti & Rizzo, Phys. Rev. E 65, 046137 (2002)), from memory; we allow 2e-6.
     assert abs(parisi.full_rsb(k=12) - 0.7631667) < 2e-6
 
 
 def test_values_decrease_towards_full_value():
     values = [parisi.cached_solve(k)[0].value for k in (0, 1, 2, 3, 5)]
     assert all(a > b for a, b in zip(values, values[1:]))
-    assert values[-1] > 0.7631667 - 2e-6  # P* from memory (REFERENCES.md); P_k is an upper approximation
+    assert values[-1] > 0.7631667 - 2e-6  # P* (Crisanti & Rizzo 2002) from memory; P_k is an upper approximation
 
 
 def _one_step_by_quadrature(q0: float, m: float) -> float:
@@ -109,4 +109,4 @@ def test_table_rows_and_format():
     assert [r["k"] for r in rows] == [0, 1, "full"]
     text = parisi.format_parisi_table(rows)
     assert "full" in text and "0.79788" in text
-    assert abs(rows[-1]["value"] - 0.7631667) < 5e-5  # P* from memory (REFERENCES.md); coarse levels here
+    assert abs(rows[-1]["value"] - 0.7631667) < 5e-5  # P* (Crisanti & Rizzo 2002) from memory; coarse levels here

@@ -1,6 +1,6 @@
 """Exact structural solvers (min-cut, gauge fixing, tree DP) against outside references.
 
-References (shared/REFERENCES.md): brute-force enumeration written in this file,
+References (docs/references.md): brute-force enumeration written in this file,
 scipy.optimize.milp (HiGHS) with options={"mip_rel_gap": 0} on the standard
 linearisation, networkx graph generators.  Canonical sense throughout:
 maximise ½σᵀKσ + bᵀσ + k₀.
@@ -18,7 +18,7 @@ from scipy.optimize import Bounds, LinearConstraint, milp
 
 from spinward.core import CanonicalProblem, Registry, SolveContext, SolverUnsuitableError
 from spinward.plugins import structure
-from spinward.plugins.structure import gauge, mincut, treedp
+from spinward.plugins.structure import mincut, treedp, unfrustrated
 
 SPECS = {spec.name: spec for spec in structure.spinward_solvers()}
 
@@ -95,8 +95,8 @@ def assert_optimal(problem: CanonicalProblem, sol, optimum: float) -> None:
 # ---------------------------------------------------------------- registration
 def test_the_hook_registers_three_exact_solvers():
     registry = Registry(["spinward.plugins.structure"], autoload=False)
-    assert {"mincut", "gauge", "treedp"} <= set(registry.names())
-    for name in ("mincut", "gauge", "treedp"):
+    assert {"mincut", "unfrustrated", "treedp"} <= set(registry.names())
+    for name in ("mincut", "unfrustrated", "treedp"):
         spec = registry.get(name)
         assert spec.capabilities.exact and spec.capabilities.fields
 
@@ -205,8 +205,8 @@ def test_gauge_equals_brute_force_on_planted_instances(seed):
     K, _ = planted(n, rng)
     b = rng.normal(size=n) if seed % 3 else np.zeros(n)
     K_in = sp.csr_array(K) if seed % 2 else K
-    problem, sol = solve("gauge", K_in, b, k0=0.25)
-    assert SPECS["gauge"].can_run(problem) is True
+    problem, sol = solve("unfrustrated", K_in, b, k0=0.25)
+    assert SPECS["unfrustrated"].can_run(problem) is True
     assert_optimal(problem, sol, brute_force(K, b, 0.25))  # outside check: enumeration
 
 
@@ -214,7 +214,7 @@ def test_gauge_signs_undo_the_planted_flip():
     rng = np.random.default_rng(9)
     K, tau = planted(30, rng)
     K = np.triu(K, 1) + np.triu(K, 1).T
-    found, bad, _ = gauge.gauge_signs(CanonicalProblem(K, np.zeros(30)))
+    found, bad, _ = unfrustrated.gauge_signs(CanonicalProblem(K, np.zeros(30)))
     assert bad == 0
     G = nx.from_numpy_array(K)
     for comp in nx.connected_components(G):  # τ is fixed up to one flip per component (networkx)
@@ -225,16 +225,16 @@ def test_gauge_signs_undo_the_planted_flip():
 
 def test_gauge_check_rejects_a_frustrated_triangle():
     K = np.array([[0, 1, 1], [1, 0, -1], [1, -1, 0.0]])
-    verdict = SPECS["gauge"].can_run(CanonicalProblem(K, np.zeros(3)))
+    verdict = SPECS["unfrustrated"].can_run(CanonicalProblem(K, np.zeros(3)))
     assert isinstance(verdict, str) and "frustrated" in verdict and "1 of 3" in verdict
     # a large dense Gaussian matrix is declined from a sampled frustrated triangle, which the test re-checks
     rng = np.random.default_rng(2)
     K = symmetric(300, rng, 1.0, positive=False)
-    verdict = SPECS["gauge"].can_run(CanonicalProblem(K, np.zeros(300)))
+    verdict = SPECS["unfrustrated"].can_run(CanonicalProblem(K, np.zeros(300)))
     i, j, k = map(int, verdict.split("(")[1].split(")")[0].split(","))
     assert K[i, j] * K[j, k] * K[k, i] < 0
     with pytest.raises(SolverUnsuitableError, match="frustrated"):
-        SPECS["gauge"].run(CanonicalProblem(K, np.zeros(300)), SolveContext(rng=rng))
+        SPECS["unfrustrated"].run(CanonicalProblem(K, np.zeros(300)), SolveContext(rng=rng))
 
 
 # ---------------------------------------------------------------- tree DP

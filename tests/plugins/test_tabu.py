@@ -51,7 +51,7 @@ def reference_walk(K: np.ndarray, sigma: np.ndarray, tenure: int, moves: int) ->
 @pytest.mark.parametrize("sparse", [False, True])
 def test_kernel_walk_follows_the_plain_rule(sparse):
     # Gaussian weights make ties impossible, and spread 0 fixes the tenure: the walk is then determined.
-    from spinward.plugins import _tabu_kernels as kern
+    from spinward.plugins.tabu import _kernels as kern
     from spinward.plugins.common.flips import csr_parts
 
     rng = np.random.default_rng(1)
@@ -228,7 +228,7 @@ def test_annealed_ball_kicks_reach_the_brute_force_optimum():
 
 def test_default_on_3_regular_graphs_reaches_the_milp_optimum():
     # reference: scipy.optimize.milp (HiGHS, mip_rel_gap 0) proves the maximum cut of 3-regular graphs
-    # up to n ≈ 120 (shared/REFERENCES.md); the default start here is "ball-anneal" (mean degree 3)
+    # up to n ≈ 120 (measured here; docs/references.md); the default start here is "ball-anneal" (mean degree 3)
     from tests.references import milp_maxcut
 
     for seed in (1, 2):

@@ -1,4 +1,4 @@
-"""numba kernels for the descent solver: the fused IAMP step and the low-temperature polish.
+"""numba kernels for the IAMP solver: the fused IAMP step and the low-temperature polish.
 
 Canonical sense for the polish: maximise ½σᵀKσ + bᵀσ.
 

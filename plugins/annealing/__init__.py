@@ -18,7 +18,7 @@ growing ×4 while it pays is the compromise (measured).
 
 The β range is set from the coupling scale, not left to the user: with
 s = RMS over i of √(Σⱼ Kᵢⱼ² + bᵢ²) (the RMS local field at a uniform random
-state), β runs from ``beta_range[0]/s`` to ``beta_range[1]/s``.  For the SK
+state), β runs from ``beta_span[0]/s`` to ``beta_span[1]/s``.  For the SK
 model (K = J, J ~ N(0,1)) s ≈ √n, so the default (0.2, 8) spans roughly
 T = 5·T_c down to T = T_c/8.
 """
@@ -34,13 +34,13 @@ import numpy as np
 
 from spinward.core import Capabilities, CanonicalProblem, InputError, Solution, SolveContext, SolverSpec, hookimpl
 
-from .common.couplings import working_couplings
-from .common.flips import csr_parts, local_search, random_spins
+from ..common.couplings import working_couplings
+from ..common.flips import csr_parts, local_search, random_spins
 
 SCHEDULES = ("linear", "geometric")
 DEFAULT_SWEEPS = 1000
 RULES = {"metropolis": 0, "heat-bath": 1}
-DEFAULT_BETA_RANGE = (0.2, 8.0)
+DEFAULT_BETA_SPAN = (0.2, 8.0)
 CHUNK_SECONDS = 0.05          # target time between clock checks
 OFFER_SECONDS = 1.0           # hand the incumbent to the core at least this often
 FIT_SHARE = 0.9               # share of the time left that the next schedule may use
@@ -49,7 +49,7 @@ UNBOUNDED = 10**7             # sweeps: the longest schedule (its β array takes
 GROWTH = 4                    # each schedule is this many times longer than the last, if the time allows
 
 OPTIONS: dict[str, Any] = {
-    "sweeps": None, "restarts": None, "schedule": "linear", "beta_range": None,
+    "sweeps": None, "restarts": None, "schedule": "linear", "beta_span": None,
     "rule": "metropolis", "precision": "auto",
 }
 
@@ -105,9 +105,9 @@ def make_plan(problem: CanonicalProblem, ctx: SolveContext) -> Plan:
     rule = ctx.option("rule", OPTIONS["rule"])
     if rule not in RULES:
         raise InputError(f"anneal: rule must be one of {tuple(RULES)}, got {rule!r}")
-    lo, hi = ctx.option("beta_range", None) or DEFAULT_BETA_RANGE
+    lo, hi = ctx.option("beta_span", None) or DEFAULT_BETA_SPAN
     if not (0 < float(lo) <= float(hi) < math.inf):
-        raise InputError(f"anneal: beta_range must be two numbers 0 < lo <= hi, got {(lo, hi)!r}")
+        raise InputError(f"anneal: beta_span must be two numbers 0 < lo <= hi, got {(lo, hi)!r}")
     restarts = ctx.option("restarts", None)
     if restarts is None:  # one anneal, or as many as the time limit allows
         restarts = 1 if ctx.time_limit is None else 10**9
@@ -122,7 +122,7 @@ class Annealer:
     """One restart's state: spins, local fields, generator state and best-so-far."""
 
     def __init__(self, problem: CanonicalProblem, couplings: tuple[Any, ...], seed: int) -> None:
-        from . import _anneal_kernels as kern
+        from . import _kernels as kern
 
         self.problem, self.couplings = problem, couplings
         self.kernel = kern.anneal_csr if problem.kind == "sparse" else kern.anneal_dense
@@ -227,7 +227,7 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     assert ctx.best_sigma is not None
     return Solution(sigma=ctx.best_sigma, info={"restarts": done, "sweeps": sweeps_run, "last_sweeps": plan.sweeps,
                                                 "schedule_finished": finished,
-                                                "beta_range": (float(plan.betas[0]), float(plan.betas[-1]))})
+                                                "beta_span": (float(plan.betas[0]), float(plan.betas[-1]))})
 
 
 def fit(problem: CanonicalProblem) -> float:

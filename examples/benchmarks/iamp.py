@@ -1,7 +1,7 @@
-"""Benchmark of the descent solver (IAMP + clean-up + polish) on SK instances, against annealing.
+"""Benchmark of the IAMP solver (IAMP + clean-up + polish) on SK instances, against annealing.
 
 Instances: J_ij i.i.d. N(0,1) (or ±1) for i < j, canonical K = (J + Jᵀ)/√n, so that
-C(σ) = ½σᵀKσ = H(σ) = n^{-1/2} Σ_{i<j} J_ij σ_i σ_j (shared/REFERENCES.md convention, maximised)
+C(σ) = ½σᵀKσ = H(σ) = n^{-1/2} Σ_{i<j} J_ij σ_i σ_j (the SK convention of docs/references.md, maximised)
 and e = H/n; P* = 0.7631667 (from memory).  n = 8000 uses float32 couplings.
 
 Reports per run: e after sign rounding, after greedy clean-up and after the polish, wall time,
@@ -15,7 +15,7 @@ The solver computes in float32 by default (option precision="auto"); the dtype c
 input's.  Kernels are loaded by a warm-up solve before any timing.  Timings are taken on a shared
 machine: read the ratios, not the seconds.
 
-Usage: python examples/benchmarks/descent.py [--sizes 1000 2000 4000 8000] [--seeds 5] [--out PATH]
+Usage: python examples/benchmarks/iamp.py [--sizes 1000 2000 4000 8000] [--seeds 5] [--out PATH]
 """
 
 from __future__ import annotations
@@ -38,10 +38,10 @@ from typing import Any
 import numpy as np
 
 from spinward.core import AssumptionWarning, CanonicalProblem, SolveContext
-from spinward.plugins.descent import SPEC as DESCENT
-from spinward.plugins.descent import working_precision
-from spinward.plugins.descent.iamp import normalised, raw_matvec
-from spinward.plugins.descent.parisi import PSTAR_REFERENCE, load_tables
+from spinward.plugins.iamp import SPEC as IAMP_SPEC
+from spinward.plugins.iamp import working_precision
+from spinward.plugins.iamp.message_passing import normalised, raw_matvec
+from spinward.plugins.iamp.parisi import PSTAR_REFERENCE, load_tables
 
 
 def sk_problem(n: int, seed: int, pm1: bool = False, dtype: Any = np.float64) -> CanonicalProblem:
@@ -72,7 +72,7 @@ def time_matvec(problem: CanonicalProblem, options: dict[str, Any], repeats: int
     return float(np.median(times))
 
 
-def run_descent(problem: CanonicalProblem, seed: int, options: dict[str, Any], trace_memory: bool = False
+def run_iamp(problem: CanonicalProblem, seed: int, options: dict[str, Any], trace_memory: bool = False
                 ) -> dict[str, Any]:
     """One timed run; with ``trace_memory`` a second, untimed run of the same seed measures peak memory."""
     sol, ctx, wall = _solve(problem, seed, options)
@@ -97,7 +97,7 @@ def _solve(problem: CanonicalProblem, seed: int, options: dict[str, Any]) -> tup
     t0 = time.perf_counter()
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", AssumptionWarning)
-        sol = DESCENT.run(problem, ctx)
+        sol = IAMP_SPEC.run(problem, ctx)
     return sol, ctx, time.perf_counter() - t0
 
 
@@ -129,7 +129,7 @@ def annealer() -> Callable[[CanonicalProblem, int, float], float]:
 def _fallback_anneal(problem: CanonicalProblem, seed: int, seconds: float) -> float:
     """Single-flip Metropolis, β linear from 0.1 to 5 (SK units), sweeps sized to the time given."""
     from spinward.plugins.common.flips import local_search, random_spins
-    from spinward.plugins.descent import _kernels as kern
+    from spinward.plugins.iamp import _kernels as kern
 
     rng = np.random.default_rng(seed)
     K = np.asarray(problem.K)
@@ -152,8 +152,8 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
     ap.add_argument("--no-sa", action="store_true")
     ap.add_argument("--no-pm1", action="store_true", help="skip the ±1 couplings at n = 4000")
     ap.add_argument("--option", action="append", default=[], metavar="KEY=VALUE",
-                    help="extra descent option (value parsed as JSON, else kept as text)")
-    ap.add_argument("--out", default="bench-out/descent.json")
+                    help="extra iamp option (value parsed as JSON, else kept as text)")
+    ap.add_argument("--out", default="bench-out/iamp.json")
     ap.add_argument("--fresh-cache", action="store_true", help="time the first Parisi solve in a new cache dir")
     args = ap.parse_args(argv)
     if args.fresh_cache:
@@ -182,7 +182,7 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
             problem = sk_problem(n, 1000 * n + seed + (500 if pm1 else 0), pm1, dtype)
             t_mv = time_matvec(problem, options)
             rec = {"n": n, "couplings": "pm1" if pm1 else "gauss", "dtype": np.dtype(dtype).name, "seed": seed,
-                   **run_descent(problem, seed, options, trace_memory=seed == 0), "t_matvec_s": t_mv}
+                   **run_iamp(problem, seed, options, trace_memory=seed == 0), "t_matvec_s": t_mv}
             rec["iter_over_matvec"] = rec["t_iter_s"] / t_mv
             if n == 4000 and not pm1 and not args.no_sa:
                 rec["sa"] = compare_sa(problem, seed, rec, args.sa_multipliers)
@@ -206,14 +206,14 @@ def warm_up(options: dict[str, Any]) -> None:
 
 
 def compare_sa(problem: CanonicalProblem, seed: int, rec: dict[str, Any], multipliers: list[float]) -> dict[str, Any]:
-    """SA at the descent's wall time (×1) and at longer times, to bracket equal energy."""
+    """SA at iamp's wall time (×1) and at longer times, to bracket equal energy."""
     sa = annealer()
     out: dict[str, Any] = {"by_multiplier": {}}
     for mult in multipliers:
         e = sa(problem, seed, mult * rec["wall_s"])
         out["by_multiplier"][str(mult)] = e
         if e >= rec["e_final"] and "equal_energy_time_ratio" not in out:
-            out["equal_energy_time_ratio"] = mult  # SA needed at most this multiple of descent's time
+            out["equal_energy_time_ratio"] = mult  # SA needed at most this multiple of iamp's time
     out.setdefault("equal_energy_time_ratio", f">{multipliers[-1]}")
     out["energy_ratio_equal_time"] = rec["e_final"] / out["by_multiplier"][str(multipliers[0])]
     return out
@@ -260,8 +260,8 @@ def print_summary(s: dict[str, Any]) -> None:
         print(f"  fit e(n) = {f['e_inf']:.4f} − {f['A']:.3f}·n^(−2/3)   (P* = {s['pstar_reference']}, from memory)")
     print(f"  Parisi tables: first solve {s['parisi_first_solve_s']:.2f} s, cached load {s['parisi_cached_load_s']:.3f} s")
     if s["sa_energy_ratio_equal_time"] is not None:
-        print(f"  descent / SA energy at equal wall time (n=4000): {s['sa_energy_ratio_equal_time']:.4f}; "
-              f"SA time for descent's energy: {s['sa_equal_energy_time_ratios']} × descent's")
+        print(f"  iamp / SA energy at equal wall time (n=4000): {s['sa_energy_ratio_equal_time']:.4f}; "
+              f"SA time for iamp's energy: {s['sa_equal_energy_time_ratios']} × iamp's")
 
 
 if __name__ == "__main__":

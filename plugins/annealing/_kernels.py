@@ -5,7 +5,7 @@ E = −C, so flipping spin i raises E by ΔE = 2σᵢhᵢ with h = Kσ + b.  Spi
 visited in index order (one sweep = n proposals); a proposal is accepted by the
 Metropolis rule min(1, e^{−βΔE}) or by the heat-bath rule 1/(1 + e^{βΔE}).
 
-Random numbers come from a xorshift64* generator whose 64-bit state lives in a
+Random numbers come from the shared xorshift64* generator (plugins/common/_random_kernels.py), whose state lives in a
 one-element array owned by the caller, so a run is a pure function of its seed:
 identical across runs, chunkings and thread counts.  Imported lazily: importing
 this module imports numba; compilation happens on first call (cached on disk).
@@ -16,29 +16,13 @@ from __future__ import annotations
 import math
 
 import numba as nb
-import numpy as np
+
+from ..common._random_kernels import uniform
 
 METROPOLIS = 0
 HEAT_BATH = 1
 
-_SHIFT_A = np.uint64(12)
-_SHIFT_B = np.uint64(25)
-_SHIFT_C = np.uint64(27)
-_SHIFT_OUT = np.uint64(11)
-_MULT = np.uint64(2685821657736338717)
-_INV_2_53 = 1.0 / 9007199254740992.0
 _EXP_CUTOFF = 40.0  # e^{-40} < 2^{-53}: such a move can never be accepted
-
-
-@nb.njit(cache=True, inline="always")
-def uniform(state):  # pragma: no cover - compiled
-    """Next uniform in [0, 1) from xorshift64* (state[0] must be non-zero)."""
-    x = state[0]
-    x ^= x >> _SHIFT_A
-    x ^= x << _SHIFT_B
-    x ^= x >> _SHIFT_C
-    state[0] = x
-    return float((x * _MULT) >> _SHIFT_OUT) * _INV_2_53
 
 
 @nb.njit(cache=True, inline="always")

@@ -31,7 +31,7 @@ def decode_state(n: int, r: int, fixed_last: bool, chunk: int, gray_index: int) 
 
 
 def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
-    from . import _enum_kernels as kern
+    from . import _kernels as kern
 
     n = problem.n
     K = np.ascontiguousarray(problem.dense_K(), dtype=np.float64)

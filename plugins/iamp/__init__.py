@@ -1,7 +1,7 @@
-"""The descent solver: IAMP driven by the zero-temperature Parisi solution (solver "descent").
+"""The IAMP solver: incremental approximate message passing driven by the zero-temperature Parisi solution (solver "iamp").
 
 Canonical sense: maximise C(σ) = ½σᵀKσ + bᵀσ + k₀.  The couplings are normalised to the
-mean-field scale of shared/CONVENTIONS.md, A = (K − m(11ᵀ − I)) / (s√n), so that on dense
+mean-field scale of docs/conventions.md, A = (K − m(11ᵀ − I)) / (s√n), so that on dense
 mean-zero i.i.d.-like couplings max ½σᵀAσ ≈ n·P* (P* ≈ 0.7632) and IAMP provably reaches
 (1 − ε)·P* (arXiv:1812.10897).  Fields are absorbed by one extra spin (with a warning: the
 guarantee no longer applies).  Each run rounds the IAMP magnetisation by sign and climbs to a
@@ -34,7 +34,7 @@ from spinward.core.registry import MEAN_FIELD_ASSUMPTION
 from spinward.core import CanonicalProblem, Capabilities, InputError, Solution, SolveContext, SolverSpec, hookimpl
 
 from . import diagnostics as diag
-from .iamp import Matvec, iamp, normalised, raw_matvec, with_ghost
+from .message_passing import Matvec, iamp, normalised, raw_matvec, with_ghost
 
 OPTIONS: dict[str, Any] = {
     "solutions": "auto",     # independent IAMP runs sharing one Parisi solution; the best is returned
@@ -100,11 +100,11 @@ def working_precision(problem: CanonicalProblem, ctx: SolveContext) -> tuple[tup
     """
     from spinward.plugins.common.couplings import check_precision, working_couplings
 
-    precision = check_precision(ctx.option("precision", OPTIONS["precision"]), "descent")
+    precision = check_precision(ctx.option("precision", OPTIONS["precision"]), "iamp")
     dtype = np.float64 if precision == "float64" else np.float32
     if problem.kind == "operator":
         return (problem.K,), dtype
-    return working_couplings(problem, precision, "descent"), dtype
+    return working_couplings(problem, precision, "iamp"), dtype
 
 
 def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext) -> diag.CouplingStats:
@@ -145,7 +145,7 @@ def _mean_part(mean: float, s: np.ndarray | int, n: int) -> float:
 
 
 def _fluctuation_e(problem: CanonicalProblem, sigma: np.ndarray, value: float, stats: diag.CouplingStats) -> float:
-    """e = (C − k₀ − bᵀσ − mean part) / (s·n^{3/2}): the REFERENCES.md energy per spin."""
+    """e = (C − k₀ − bᵀσ − mean part) / (s·n^{3/2}): the energy per spin of docs/conventions.md."""
     n = problem.n
     rest = value - problem.k0 - float(problem.b @ sigma) - _mean_part(stats.mean, sigma, n)
     return rest / (stats.std * n**1.5) if stats.std > 0 else float("nan")
@@ -292,7 +292,7 @@ def fit(profile: Any) -> float:
 
 
 SPEC = SolverSpec(
-    name="descent",
+    name="iamp",
     run=run,
     capabilities=Capabilities(fields=True, dense=True, sparse=True, operator=True, stochastic=True,
                               assumptions=(MEAN_FIELD_ASSUMPTION,

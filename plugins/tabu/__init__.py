@@ -50,9 +50,9 @@ import numpy as np
 
 from spinward.core import Capabilities, CanonicalProblem, InputError, Solution, SolveContext, SolverSpec, hookimpl
 
-from .annealing import coupling_scale
-from .common.couplings import working_couplings
-from .common.flips import local_search, random_spins
+from ..annealing import coupling_scale
+from ..common.couplings import working_couplings
+from ..common.flips import local_search, random_spins
 
 CHUNK_SECONDS = 0.05
 OFFER_SECONDS = 1.0
@@ -110,7 +110,7 @@ class Walk:
     """The state of one tabu walk, kept in arrays the kernels update in place."""
 
     def __init__(self, problem: CanonicalProblem, couplings: tuple[Any, ...], seed: int, tol: float) -> None:
-        from . import _tabu_kernels as kern
+        from . import _kernels as kern
 
         n = problem.n
         self.kern, self.problem, self.couplings, self.tol = kern, problem, couplings, tol
@@ -213,7 +213,7 @@ def mean_degree(problem: Any) -> float:
     if hasattr(problem, "couplings"):
         return 2.0 * float(problem.couplings) / n
     if getattr(problem, "kind", None) == "sparse":
-        from .common.flips import mean_degree as sparse_degree
+        from ..common.flips import mean_degree as sparse_degree
 
         return sparse_degree(problem)
     return float(n - 1)
@@ -242,7 +242,7 @@ def first_state(problem: CanonicalProblem, how: str, ctx: SolveContext) -> np.nd
     """
     if how in ("random", "ball-anneal"):
         return random_spins(problem.n, ctx.rng).astype(np.float64)
-    from . import annealing
+    from .. import annealing
 
     share = SPARSE_ANNEAL_SHARE if problem.kind == "sparse" else ANNEAL_SHARE
     budget = None if ctx.time_limit is None else share * max(ctx.remaining(), 0.0)
@@ -258,8 +258,8 @@ def _kicks_with_restarts(problem: CanonicalProblem, sigma: np.ndarray, ctx: Solv
     about 100 per spin (0.2 s), and three (2.5 s anneal + kicks) rounds gave 1053.4 against
     1049.3 for one 5 s anneal + 4 s of kicks.
     """
-    from . import annealing
-    from .common.kicks import kick_search
+    from .. import annealing
+    from ..common.kicks import kick_search
 
     end = time.perf_counter() + KICK_SHARE * max(ctx.remaining(), 0.0)
     stall = STALL_PER_SPIN * problem.n
@@ -298,7 +298,7 @@ def ball_anneal(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext)
     count = ball_count(ctx)
     if count == 0 or problem.n < 2:
         return sigma, 0
-    from .common.kicks import kick_search
+    from ..common.kicks import kick_search
 
     heat = BALL_HEAT * coupling_scale(problem)
     if ctx.time_limit is not None:
@@ -322,7 +322,7 @@ def ball_phase(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext,
     count = ball_count(ctx)
     if problem.kind != "sparse" or count == 0 or problem.n < 2:
         return sigma, 0
-    from .common.kicks import kick_search
+    from ..common.kicks import kick_search
 
     if count is None and ctx.time_limit is not None:
         out, value, done = _kicks_with_restarts(problem, sigma, ctx, anneal_seconds)

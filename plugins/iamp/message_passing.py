@@ -1,6 +1,6 @@
 """Incremental approximate message passing (IAMP) driven by a zero-temperature Parisi solution.
 
-Convention: A is the normalised coupling matrix of shared/CONVENTIONS.md (spectrum ≈ [−2, 2]),
+Convention: A is the normalised coupling matrix of docs/conventions.md (spectrum ≈ [−2, 2]),
 and IAMP climbs ½σᵀAσ (maximise).  It is matrix-free: everything goes through one callable
 ``matvec(x) -> A x`` (float64 in and out), built here for a dense ndarray (float32 or float64),
 a numpy memmap (streamed in row blocks), a scipy.sparse matrix or a scipy LinearOperator.

@@ -1,6 +1,6 @@
-"""The descent solver (IAMP + clean-up) at the canonical level.
+"""The IAMP solver (IAMP + clean-up) at the canonical level.
 
-Outside checks: shared/REFERENCES.md values (P*, the dense G(n, p) MaxCut row), energies
+Outside checks: P* = 0.7631667 (Crisanti & Rizzo, Phys. Rev. E 65, 046137 (2002), from memory), the dense G(n, p) MaxCut line derived from it (docs/references.md), energies
 recomputed plainly from the caller's couplings, and networkx graphs.
 """
 
@@ -16,7 +16,7 @@ import scipy.sparse as sp
 from scipy.sparse.linalg import aslinearoperator
 
 from spinward.core import AssumptionWarning, CanonicalProblem, SolveContext
-from spinward.plugins.descent import SPEC, parisi
+from spinward.plugins.iamp import SPEC, parisi
 
 FAST = {"parisi_k": 20, "solutions": 1}
 
@@ -27,7 +27,7 @@ def private_cache(tmp_path_factory, monkeypatch):
 
 
 def sk_couplings(n: int, seed: int, pm1: bool = False) -> np.ndarray:
-    """Upper-triangular J_ij (i < j), N(0,1) or ±1, as in the REFERENCES.md SK convention."""
+    """Upper-triangular J_ij (i < j), N(0,1) or ±1, as in the SK convention (Sherrington & Kirkpatrick 1975)."""
     rng = np.random.default_rng(seed)
     J = rng.choice([-1.0, 1.0], size=(n, n)) if pm1 else rng.standard_normal((n, n))
     return np.triu(J, 1)
@@ -56,7 +56,7 @@ def sk_energy(J: np.ndarray, sigma: np.ndarray) -> float:
 
 @pytest.mark.parametrize("seed", [0, 1, 2])
 def test_n1000_every_seed_reaches_074(seed):
-    # P* = 0.7632 (REFERENCES.md, from memory); IAMP reaches (1 − ε)P* (arXiv:1812.10897).
+    # P* = 0.7632 (Crisanti & Rizzo 2002, from memory); IAMP reaches (1 − ε)P* (arXiv:1812.10897).
     J = sk_couplings(1000, 100 + seed)
     sol, _ = solve(sk_problem(J), seed)
     assert sk_energy(J, sol.sigma) >= 0.74
@@ -68,7 +68,7 @@ def test_reported_energy_equals_recomputed_energy():
     sol, _ = solve(problem, 3, delta=0.01)
     K = np.asarray(problem.K)
     off = K[~np.eye(600, dtype=bool)]
-    s_scale = off.std()  # s over all pairs (CONVENTIONS.md mean-field scale)
+    s_scale = off.std()  # s over all pairs (the mean-field scale of docs/conventions.md)
     m = off.mean()
     sigma = sol.sigma.astype(np.float64)
     mean_part = 0.5 * m * (sigma.sum() ** 2 - 600)
@@ -150,7 +150,7 @@ def test_fields_use_a_ghost_spin_and_warn():
 
 
 def test_dense_maxcut_with_mean_meets_the_derived_prediction():
-    # REFERENCES.md (derived row): dense G(n, p) MaxCut ≈ p·n(n−1)/4 + ½√(p(1−p))·P*·n^{3/2}.
+    # Derived from P* (docs/references.md): dense G(n, p) MaxCut ≈ p·n(n−1)/4 + ½√(p(1−p))·P*·n^{3/2}.
     n, p = 600, 0.5
     g = nx.gnp_random_graph(n, p, seed=3)
     W = nx.to_numpy_array(g)

@@ -1,6 +1,6 @@
 """Zero-temperature Parisi solver for the Sherrington–Kirkpatrick model (ξ(t) = t²/2).
 
-Convention (shared/REFERENCES.md): J_ij i.i.d. N(0,1), H(σ) = n^{-1/2} Σ_{i<j} J_ij σ_i σ_j,
+Convention (the SK convention of docs/references.md): J_ij i.i.d. N(0,1), H(σ) = n^{-1/2} Σ_{i<j} J_ij σ_i σ_j,
 maximised; the ground-state energy per spin H/n tends to
 
     P* = inf_γ  Φ_γ(0, 0) − ½ ∫₀¹ t γ(t) dt,
@@ -36,7 +36,7 @@ GRID_L = 7.0
 KERNEL_SIGMAS = 9.0
 #: cache format version: bump when the numerics change so stale files are ignored
 CACHE_VERSION = 3
-#: the Parisi value of the full-RSB (continuous γ) problem, for reports; see shared/REFERENCES.md
+#: the Parisi value of the full-RSB (continuous γ) problem, for reports (Crisanti & Rizzo, Phys. Rev. E 65, 046137 (2002); from memory)
 PSTAR_REFERENCE = 0.7631667
 
 
@@ -448,7 +448,7 @@ def cached_solve(k: int) -> tuple[ParisiSolution, bool]:
 
 # ---------------------------------------------------------------- the table for `spinward parisi`
 
-#: values quoted in shared/REFERENCES.md, for the table's last column
+#: published values for the table's last column (sources in docs/references.md)
 _REFERENCE = {0: (math.sqrt(2 / math.pi), "√(2/π), exact"), 1: (0.7652, "≈ 0.7652, from memory")}
 
 
@@ -459,7 +459,7 @@ def parisi_table(ks: Sequence[int] = (0, 1, 2, 3, 5, 10, 20, 50), *, full_k: int
     The full row extrapolates the ``full_k`` and 2·``full_k`` level solutions (see :func:`full_rsb`).
 
     Sense: the values are the SK ground-state energy per spin P_k (maximisation convention of
-    shared/REFERENCES.md); P_k decreases to P* as k grows.
+    docs/references.md); P_k decreases to P* as k grows.
     """
     rows: list[dict] = []
     for k in ks:

@@ -10,7 +10,7 @@ without changing its course:
 ``ints = [move, last_improve, at_best, free_size, tabu_size, queue_head, queue_tail]``
 and ``vals = [current, best]``.  ``best_sigma`` is written lazily (when the walk
 leaves a best state, and at the end of a chunk), not at every improving move.
-Random numbers come from the xorshift64* generator of :mod:`._anneal_kernels`.
+Random numbers come from the xorshift64* generator of :mod:`..common._random_kernels`.
 """
 
 from __future__ import annotations
@@ -18,7 +18,7 @@ from __future__ import annotations
 import numba as nb
 import numpy as np
 
-from ._anneal_kernels import uniform
+from ..common._random_kernels import uniform
 
 MOVE, LAST_IMPROVE, AT_BEST, FREE_SIZE, TABU_SIZE, Q_HEAD, Q_TAIL = 0, 1, 2, 3, 4, 5, 6
 CURRENT, BEST = 0, 1

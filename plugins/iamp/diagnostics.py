@@ -1,6 +1,6 @@
-"""Mean-field checks for the descent solver: is this instance like the SK class?
+"""Mean-field checks for the IAMP solver: is this instance like the SK class?
 
-Convention (shared/CONVENTIONS.md, mean-field scale): over the n(n−1) off-diagonal entries of K,
+Convention (docs/conventions.md, the mean-field scale): over the n(n−1) off-diagonal entries of K,
 zeros included, m is the mean and s the standard deviation; the solver works with
 A = (K − m(11ᵀ − I)) / (s√n), whose spectrum fills [−2, 2] (semicircle) for dense i.i.d.-like
 mean-zero couplings.  The checks here report density, mean, tails (excess kurtosis and the
