@@ -46,6 +46,15 @@ class ProblemForm(ABC):
         up, _ = self.domain
         return np.where(np.asarray(values) == up, 1, -1).astype(np.int8)
 
+    def resolution(self) -> float | None:
+        """The objective's resolution: two states' objectives differ by 0 or by at least this much.
+
+        None when unknown (the default).  Forms whose coefficients are short binary
+        fractions (integers give 1.0) return the largest power of two dividing them all;
+        a certified bound within it of the objective then proves optimality.
+        """
+        return None
+
     def describe(self) -> dict[str, Any]:
         """A short summary for messages and reports."""
         c = self.canonical()
