@@ -68,7 +68,8 @@ class ProblemForm(ABC):
 
         None (the default) when the form carries no constraints or none of them can be
         repaired; ``should_stop`` is polled in loops (time limit and Ctrl-C).  The front
-        door keeps the repaired state only when its canonical value is at least as good.
+        door keeps the repaired state when the state it had violates a constraint, or when
+        the repaired one's canonical value is at least as good.
         """
         return None
 
