@@ -53,9 +53,9 @@ from spinward.core import Capabilities, CanonicalProblem, InputError, Solution, 
 from ..annealing import coupling_scale
 from ..common.couplings import working_couplings
 from ..common.flips import local_search, random_spins
+from ..common.offers import OfferPace, relaying_child
 
 CHUNK_SECONDS = 0.05
-OFFER_SECONDS = 1.0
 MAX_CHUNK = 10**8
 KICK_GROWTH = 1.5
 ANNEAL_SHARE = 0.8  # of the time left, for the anneal that seeds a walk (dense K)
@@ -181,7 +181,8 @@ def walk_once(walk: Walk, opts: dict[str, Any], ctx: SolveContext) -> tuple[int,
     escapes a basin that plain tabu moves keep returning to; past n/2 the strength
     starts again from its base.
     """
-    done, kicks, chunk, last_offer = 0, 0, 1000, time.perf_counter()
+    done, kicks, chunk = 0, 0, 1000
+    offer = OfferPace(walk.problem, ctx)  # each new best, after the chunk that found it
     strength, best_at_kick = opts["kicks"], -math.inf
     while done < opts["moves"]:
         t0 = time.perf_counter()
@@ -201,9 +202,7 @@ def walk_once(walk: Walk, opts: dict[str, Any], ctx: SolveContext) -> tuple[int,
             kicks += 1
         if ctx.should_stop():
             return done, kicks, False
-        if time.perf_counter() - last_offer > OFFER_SECONDS:
-            ctx.offer(walk.best_sigma, walk.problem.value(walk.best_sigma))
-            last_offer = time.perf_counter()
+        offer(walk.best_sigma, float(walk.vals[walk.kern.BEST]))
     return done, kicks, True
 
 
@@ -246,7 +245,7 @@ def first_state(problem: CanonicalProblem, how: str, ctx: SolveContext) -> np.nd
 
     share = SPARSE_ANNEAL_SHARE if problem.kind == "sparse" else ANNEAL_SHARE
     budget = None if ctx.time_limit is None else share * max(ctx.remaining(), 0.0)
-    return np.asarray(annealing.run(problem, ctx.child(time_limit=budget)).sigma, dtype=np.float64)
+    return np.asarray(annealing.run(problem, relaying_child(ctx, time_limit=budget)).sigma, dtype=np.float64)
 
 
 def _kicks_with_restarts(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext,
@@ -266,7 +265,7 @@ def _kicks_with_restarts(problem: CanonicalProblem, sigma: np.ndarray, ctx: Solv
     best, best_value, done = kick_search(problem, sigma, ctx, seconds=end - time.perf_counter(), stall=stall)
     restart = None if anneal_seconds is None else RESTART_ANNEAL_SHARE * anneal_seconds
     while restart and end - time.perf_counter() > 1.2 * restart and not ctx.should_stop():
-        start = annealing.run(problem, ctx.child(time_limit=restart)).sigma
+        start = annealing.run(problem, relaying_child(ctx, time_limit=restart)).sigma
         out, value, more = kick_search(problem, start, ctx, seconds=end - time.perf_counter(), stall=stall)
         done += more
         if value > best_value:
