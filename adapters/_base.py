@@ -11,7 +11,7 @@ from spinward.core.canonical import CanonicalProblem, Sense, is_sparse
 from spinward.core.errors import InputWarning
 from spinward.core.model import ProblemForm
 
-from .validate import check_total, power_of_two_scale
+from .validate import check_total, dyadic_resolution, power_of_two_scale
 
 
 def build_canonical(P: Any, linear: np.ndarray, constant: float, *, sign: float, shift: float,
@@ -64,6 +64,16 @@ class CachedForm(ProblemForm):
         return self._canonical
 
     def _build(self) -> CanonicalProblem:  # pragma: no cover - abstract
+        raise NotImplementedError
+
+    def resolution(self) -> float | None:
+        """See :meth:`ProblemForm.resolution`; computed once from :meth:`_coefficients`."""
+        if not hasattr(self, "_resolution"):
+            self._resolution = dyadic_resolution(*self._coefficients())
+        return self._resolution
+
+    def _coefficients(self) -> tuple[Any, ...]:
+        """Every number the caller's objective is built from (arrays or scalars)."""
         raise NotImplementedError
 
     def __repr__(self) -> str:

@@ -71,6 +71,9 @@ class MaxCut(CachedForm):
         return build_canonical(P, np.zeros(n), total / 2, sign=1.0, shift=0.0, labels=self._labels,
                                form="maxcut", sense="max")
 
+    def _coefficients(self) -> tuple[Any, ...]:
+        return (self._w,)
+
     def evaluate(self, values: np.ndarray) -> float:
         """The cut weight, summed over the caller's own edges."""
         side = dict(zip(self._labels, np.asarray(values).tolist()))

@@ -100,6 +100,9 @@ class Ising(CachedForm):
         return build_canonical(self.pairs, self.h.copy(), 0.0, sign=-1.0, shift=self.offset,
                                labels=self._labels, form="ising", sense="min")
 
+    def _coefficients(self) -> tuple[Any, ...]:
+        return self.pairs, self.h, self.offset
+
     def evaluate(self, values: np.ndarray) -> float:
         """E(s) from the caller's terms (dicts summed directly, matrices as pair sums)."""
         s = np.asarray(values, dtype=np.float64)

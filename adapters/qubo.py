@@ -74,6 +74,9 @@ class QUBO(CachedForm):
         return build_canonical(-off / 2, linear, constant, sign=-1.0, shift=self.offset,
                                labels=self._labels, form="qubo", sense="min")
 
+    def _coefficients(self) -> tuple[Any, ...]:
+        return self.Q, self.offset
+
     def evaluate(self, values: np.ndarray) -> float:
         """xᵀQx + offset from the caller's own Q (dict terms summed directly)."""
         x = np.asarray(values, dtype=np.float64)

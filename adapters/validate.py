@@ -174,3 +174,50 @@ def first_appearance(keys: Iterable[Hashable]) -> list[Hashable]:
         except TypeError:
             raise InputError(f"variable label {k!r} is not hashable") from None
     return list(seen)
+
+
+def dyadic_resolution(*parts: Any) -> float | None:
+    """The largest 2^-k (k ≥ 0) that divides every given coefficient exactly, or None.
+
+    ``parts`` are arrays (dense, memmap or scipy.sparse) or scalars.  Integer data gives 1.0;
+    data in halves gives 0.5; data like 0.1 (not a short binary fraction) gives None.  Any
+    objective built from such coefficients by sums and products with 0/1 or ±1 values is a
+    multiple of the result, so two states' objectives differ by 0 or at least that much
+    (docs/conventions.md, "When a bound proves optimality").
+    """
+    need = 0
+    for part in parts:
+        for block in _blocks(part):
+            need = max(need, _fraction_bits(block))
+            if need > MAX_FRACTION_BITS:
+                return None
+    return math.ldexp(1.0, -need)
+
+
+#: coefficients needing more binary fraction digits than this count as non-dyadic
+MAX_FRACTION_BITS = 40
+
+
+def _blocks(part: Any) -> Iterable[np.ndarray]:
+    if is_sparse(part):
+        yield np.asarray(part.data if hasattr(part, "data") else part.tocoo().data, dtype=np.float64)
+        return
+    arr = np.asarray(part)
+    if arr.ndim < 2:
+        yield np.asarray(arr, dtype=np.float64).ravel()
+        return
+    for start in range(0, arr.shape[0], 256):  # row blocks: no n² temporary
+        yield np.asarray(arr[start:start + 256], dtype=np.float64).ravel()
+
+
+def _fraction_bits(values: np.ndarray) -> int:
+    """How many binary digits after the point the entries of ``values`` need (0 for integers)."""
+    v = values[values != 0]
+    if v.size == 0:
+        return 0
+    if np.all(v == np.round(v)):
+        return 0
+    mantissa, exponent = np.frexp(v)  # v = mantissa · 2^exponent, 0.5 ≤ |mantissa| < 1
+    digits = np.abs(mantissa * 2.0**53).astype(np.int64)  # the exact 53-bit significand
+    lowest = np.log2((digits & -digits).astype(np.float64)).astype(np.int64)  # its trailing zero bits
+    return int(max(0, np.max(53 - exponent - lowest)))

@@ -17,6 +17,7 @@ from .canonical import CanonicalProblem, drop_ghost_spin
 from .context import SolveContext, interrupt_guard, make_seed
 from .errors import InputError, OptionWarning, SolverUnsuitableError, SpinwardError
 from .model import ProblemForm
+from .proof import coefficient_mass, proves_optimal
 from .registry import Bound, Registry, Solution, SolverSpec, callable_spec
 from .result import Result, relative_gap
 
@@ -220,7 +221,12 @@ def build_result(form: ProblemForm, problem: CanonicalProblem, spec: SolverSpec,
         kind = "certified" if bound.certified else "estimated"
         info["bound_method"] = bound.method
     gap = relative_gap(bound_value, objective)
-    exact = bool(sol.exact) or (kind == "certified" and gap is not None and gap <= 1e-12)
+    exact = bool(sol.exact)
+    if not exact and kind == "certified" and bound_value is not None:
+        proof = proves_optimal(form, problem, objective, bound_value)
+        exact = proof["proved"]
+        if exact:
+            info["proof"] = proof
     if ctx.trace:
         info.setdefault("trace", [(t, problem.to_objective(v)) for t, v in ctx.trace])
     status = derive_status(sol, ctx)
@@ -235,24 +241,10 @@ def build_result(form: ProblemForm, problem: CanonicalProblem, spec: SolverSpec,
 def _check_consistency(problem: CanonicalProblem, objective: float, canonical_value: float, name: str) -> None:
     """The caller's objective must equal the canonical image; a mismatch is a bug, never silent."""
     via_canonical = problem.to_objective(canonical_value)
-    mass = abs(problem.scale) * (abs(problem.k0) + float(np.abs(problem.b).sum()) + _coupling_mass(problem)) + abs(problem.shift)
+    mass = coefficient_mass(problem)
     if abs(objective - via_canonical) > CONSISTENCY_RTOL * max(mass, 1.0) + 1e-12:
         raise SpinwardError(f"internal error after solver {name!r}: the objective recomputed from the input "
                             f"({objective!r}) differs from the canonical value ({via_canonical!r}); please report it")
-
-
-def _coupling_mass(problem: CanonicalProblem) -> float:
-    """Σ_{i<j} |K_ij|, computed once per problem in row blocks (no n² temporary)."""
-    cached = problem.meta.get("_abs_mass")
-    if cached is None:
-        if problem.kind == "sparse":
-            cached = float(abs(problem.K).sum()) / 2
-        elif problem.kind == "operator":
-            cached = 0.0 if problem.n == 0 else math.inf
-        else:
-            cached = math.fsum(float(np.abs(problem.K[s:s + 512]).sum()) for s in range(0, problem.n, 512)) / 2
-        problem.meta["_abs_mass"] = cached
-    return cached
 
 
 def _empty_result(form: ProblemForm, seed: int | None, notes: list[str], elapsed: float) -> Result:

@@ -9,7 +9,7 @@ own input, never through the canonical form.
 from __future__ import annotations
 
 from abc import ABC, abstractmethod
-from typing import Any, ClassVar, Hashable
+from typing import Any, Callable, ClassVar, Hashable
 
 import numpy as np
 
@@ -45,6 +45,33 @@ class ProblemForm(ABC):
         """Caller-domain values → canonical spins (int8)."""
         up, _ = self.domain
         return np.where(np.asarray(values) == up, 1, -1).astype(np.int8)
+
+    def resolution(self) -> float | None:
+        """The objective's resolution: two states' objectives differ by 0 or by at least this much.
+
+        None when unknown (the default).  Forms whose coefficients are short binary
+        fractions (integers give 1.0) return the largest power of two dividing them all;
+        a certified bound within it of the objective then proves optimality.
+        """
+        return None
+
+    def constraint_report(self, values: np.ndarray) -> list[dict[str, Any]] | None:
+        """Each constraint's status for ``values`` (caller domain, canonical index order), in the caller's labels.
+
+        Every entry holds at least ``{"name": str, "satisfied": bool}``.  None (the default)
+        when the form carries no constraints; the front door then reports none.
+        """
+        return None
+
+    def repair(self, sigma: np.ndarray, should_stop: Callable[[], bool]) -> np.ndarray | None:
+        """A feasible canonical state near ``sigma``, improved by moves that keep it feasible.
+
+        None (the default) when the form carries no constraints or none of them can be
+        repaired; ``should_stop`` is polled in loops (time limit and Ctrl-C).  The front
+        door keeps the repaired state when the state it had violates a constraint, or when
+        the repaired one's canonical value is at least as good.
+        """
+        return None
 
     def describe(self) -> dict[str, Any]:
         """A short summary for messages and reports."""
