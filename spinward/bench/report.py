@@ -133,8 +133,8 @@ def target_of(reference: float, sense: str, gap: float) -> float:
     return reference + slack if sense == "min" else reference - slack
 
 
-def residual_of(value: float, reference: float, sense: str) -> float:
-    """Distance from ``reference`` in the problem's sense: how much worse ``value`` is."""
+def residual_of(value: Any, reference: float, sense: str) -> Any:
+    """Distance from ``reference`` in the problem's sense: how much worse ``value`` (a number or an array) is."""
     return value - reference if sense == "min" else reference - value
 
 
