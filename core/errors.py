@@ -41,6 +41,10 @@ class MissingDependencyError(SpinwardError, ImportError):
     """An optional feature needs a package that is not installed; the message names the extra to install."""
 
 
+class InternalError(SpinwardError):
+    """Something went wrong inside spinward or a plugin, not in the caller's input: please report it."""
+
+
 class SpinwardWarning(UserWarning):
     """Base of the project's warnings."""
 

@@ -88,8 +88,33 @@ def relative_gap(bound: float | None, objective: float) -> float | None:
     return abs(bound - objective) / max(abs(bound), TINY)
 
 
+class Answer(FrozenModel):
+    """One of several good states (``solve(..., solutions=k)``), in the caller's terms."""
+
+    assignment: dict[Hashable, int]
+    objective: float
+
+    @field_validator("assignment", mode="before")
+    @classmethod
+    def _pairs_to_dict(cls, value: Any) -> Any:
+        if isinstance(value, list):
+            return {_label_from_json(k): v for k, v in value}
+        return value
+
+    @field_serializer("assignment", when_used="json")
+    def _dict_to_pairs(self, value: dict[Hashable, int]) -> list[list[Any]]:
+        return [[_label_to_json(k), int(v)] for k, v in value.items()]
+
+
 class Result(FrozenModel):
-    """The answer to one ``solve()`` call, in the caller's terms."""
+    """The answer to one ``solve()`` call, in the caller's terms.
+
+    ``status``: "optimal" (proved), "time-limit" (the clock stopped a method before its own
+    end), "feasible" (every method ended on its own, no proof), "interrupted" (Ctrl-C).
+    ``feasible`` is None when the problem carries no constraints, else whether the state
+    satisfies all of them (``constraints`` lists each one).  ``solutions`` holds the distinct
+    good states asked for with ``solutions=k``, best first.
+    """
 
     form: str
     assignment: dict[Hashable, int]
@@ -105,6 +130,9 @@ class Result(FrozenModel):
     wall_time: float = Field(ge=0)
     seed: int | None = None
     warnings: tuple[str, ...] = ()
+    feasible: bool | None = None
+    constraints: tuple[dict[str, Any], ...] = ()
+    solutions: tuple[Answer, ...] = ()
     info: dict[str, Any] = Field(default_factory=dict)
 
     @field_validator("assignment", mode="before")
@@ -117,6 +145,11 @@ class Result(FrozenModel):
     @field_serializer("assignment", when_used="json")
     def _dict_to_pairs(self, value: dict[Hashable, int]) -> list[list[Any]]:
         return [[_label_to_json(k), int(v)] for k, v in value.items()]
+
+    @field_validator("constraints", mode="before")
+    @classmethod
+    def _constraints_plain(cls, value: Any) -> Any:
+        return tuple(_jsonable(v) for v in value) if isinstance(value, (list, tuple)) else value
 
     @field_validator("info", mode="before")
     @classmethod

@@ -4,22 +4,22 @@ A solver that works in kernel chunks keeps its own running best (often in float3
 arithmetic); :class:`OfferPace` offers that state to ``ctx`` after each chunk in which the
 running best rose, so the result's trace (time, value) records every improvement at the
 resolution of a chunk, and time-to-target is measured, not guessed from the end time.
+(A phase run in ``ctx.child(...)`` needs nothing more: a child's offers reach its parent.)
 
 An offer costs one exact evaluation of C (a matvec: O(n²) on dense K).  To keep that cost
 small on huge dense problems, an offer waits until ``COST_RATIO`` times the previous offer's
 cost has passed since it; on anything below about n = 5000 dense that is a few milliseconds
 at most, far below a chunk.  The cost counted is the smaller of the measured one and an
 estimate from the stored couplings (``SECONDS_PER_ENTRY`` each), so a one-time delay in the
-first evaluation (a BLAS thread pool starting) does not silence the offers after it.  Offers read the clock but never change what the solver does:
-its state, random draws and final answer are the same with or without them.
+first evaluation (a BLAS thread pool starting) does not silence the offers after it.
+Offers read the clock but never change what the solver does: its state, random draws and
+final answer are the same with or without them.
 """
 
 from __future__ import annotations
 
-import dataclasses
 import math
 import time
-from typing import Any
 
 import numpy as np
 
@@ -66,24 +66,3 @@ def _evaluation_estimate(problem: CanonicalProblem) -> float:
     if problem.kind == "dense":
         return SECONDS_PER_ENTRY * (problem.n * problem.n + problem.n)
     return math.inf
-
-
-class _Relay(SolveContext):
-    """A child context whose improvements also reach its parent, so they enter the parent's trace."""
-
-    def offer(self, sigma: np.ndarray, value: float) -> bool:
-        better = super().offer(sigma, value)
-        if better and self.parent is not None:
-            self.parent.offer(sigma, value)
-        return better
-
-
-def relaying_child(ctx: SolveContext, time_limit: float | None = None, **options: Any) -> SolveContext:
-    """``ctx.child(time_limit, **options)``, but every improvement offered to it is offered to ``ctx`` too.
-
-    For a solver run as a phase of another (tabu's annealed start): without the relay its
-    improvements stay in the child and the caller's trace misses them.
-    """
-    child = ctx.child(time_limit=time_limit, **options)
-    fields = {f.name: getattr(child, f.name) for f in dataclasses.fields(child) if f.init}
-    return _Relay(**fields)

@@ -22,7 +22,7 @@ repetitions.  Example::
     best_known = { "g05_60.0.mtx" = -536.0 }   # optional: a reference value per file, caller's units
 
     [[solvers]]
-    name = "local"            # a registered solver, or "auto" (options go to the solver auto picks)
+    name = "local"            # a registered solver, or "auto" (its options: solver_options, candidates)
     options = { restarts = 8 }
     optional = false          # true: skip when the solver is not registered
     # time_limit = inf        # per solver; inf means no limit (e.g. for an exact solver)
@@ -40,6 +40,10 @@ inf``) does a fixed amount of work that its own options set (anneal ``sweeps`` a
 same state on any machine, under any load and with any number of workers; only their wall
 times differ.  Under a time limit, how much work fits depends on the clock.
 
+Every entry's options are checked as ``solve`` checks them (``spinward.check_options``) when
+the suite is expanded, so a typo fails before any run.  "auto" takes the options of the
+solvers it may pick as ``options = { solver_options = { anneal = { sweeps = 500 } } }``.
+
 Each run is keyed by the instance hash, the solver, its options (the time limit and
 ``per_spin`` included), the seed and the repetition; see :func:`run_key`.
 """
@@ -55,7 +59,7 @@ from typing import Any
 
 from pydantic import BaseModel, ConfigDict, Field, ValidationError, field_validator
 
-from spinward.core.errors import InputError
+from spinward.core.errors import InputError, SpinwardError
 
 #: bump when a generator's output for the same recipe changes, so old rows stop matching
 RECIPE_VERSION = 1
@@ -304,9 +308,29 @@ def expand(suite: Suite, available: list[str]) -> tuple[list[RunSpec], list[str]
         else:
             raise InputError(f"suite {suite.name!r} needs solver {s.name!r}, which is not registered "
                              f"(registered: {', '.join(available)}); install it or mark it optional = true")
+    for s in solvers:
+        check_entry(suite, s)
     runs = [_spec(suite, inst, s, seed, rep) for inst in instances(suite) for s in solvers
             for seed in suite.seeds for rep in range(suite.repetitions)]
     return runs, notes
+
+
+def check_entry(suite: Suite, entry: SolverEntry) -> None:
+    """Check a solver entry's options (the ``per_spin`` ones as for n = 1) as ``solve`` would, before any run.
+
+    "auto" takes the options of the solvers it may pick through ``solver_options``; ``per_spin``
+    scales a named solver's own options only.
+    """
+    import spinward
+
+    if entry.name == "auto" and entry.per_spin:
+        raise InputError(f"suite {suite.name!r}, solver entry {entry.shown!r}: per_spin scales a named solver's "
+                         f"options; name the solver, or give 'auto' fixed solver_options")
+    options = {**entry.options, **{k: max(1, round(v)) for k, v in entry.per_spin.items()}}
+    try:
+        spinward.check_options(entry.name, options)
+    except SpinwardError as exc:
+        raise InputError(f"suite {suite.name!r}, solver entry {entry.shown!r}: {exc}") from None
 
 
 def _spec(suite: Suite, inst: Instance, s: SolverEntry, seed: int, rep: int) -> RunSpec:

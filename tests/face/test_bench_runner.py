@@ -70,6 +70,13 @@ def test_suite_errors_name_the_field(tmp_path):
         load_suite(write(tmp_path, twice, "t.toml"))
     with pytest.raises(InputError, match="per_spin values must be positive"):
         load_suite(write(tmp_path, '[[solvers]]\nname = "anneal"\nper_spin = { sweeps = 0 }\n', "p.toml"))
+    # options are checked when the suite is expanded, as solve() would check them, naming the entry
+    typo = load_suite(write(tmp_path, DETERMINISTIC.replace("restarts = 3", "restart = 3"), "o.toml"))
+    with pytest.raises(InputError, match="solver entry 'local'.*unknown option 'restart'.*Did you mean 'restarts'"):
+        expand(typo, ["local", "enumerate"])
+    auto = load_suite(write(tmp_path, DETERMINISTIC + '[[solvers]]\nname = "auto"\noptions = { sweeps = 5 }\n', "a.toml"))
+    with pytest.raises(InputError, match="solver entry 'auto'.*solver_options"):
+        expand(auto, ["local", "enumerate"])
 
 
 def test_rerun_skips_stored_runs_and_time_limit_is_in_the_key(tmp_path):
@@ -250,6 +257,7 @@ family = "sk"
 sizes = [30]
 [[solvers]]
 name = "auto"
+options = { solver_options = { tabu = { moves = 3000 }, anneal = { sweeps = 500 } } }
 [[solvers]]
 name = "anneal"
 label = "anneal 3n"
