@@ -26,7 +26,7 @@ from .profile import profile_of
 from .proof import coefficient_mass, proves_optimal
 from .reduce import Fixing, fix_spins
 from .registry import Bound, Registry, SolverSpec, callable_spec
-from .result import Answer, Result, relative_gap
+from .result import Answer, Result, jsonable, relative_gap
 from .run import Runner
 
 #: tolerance when comparing the caller's objective with the canonical one (relative to the coupling mass)
@@ -293,12 +293,15 @@ def build_result(state: _Solve, sigma: np.ndarray, notes: list[str], steps: list
     if report is not None and not all(c.get("satisfied") for c in report):
         warnings.append("the best state found violates a constraint: "
                         + "; ".join(str(c.get("name")) for c in report if not c.get("satisfied")))
-    return Result(form=form.form, assignment=dict(zip(problem.labels, values.tolist())),
-                  array=tuple(values.tolist()), objective=objective, sense=form.sense, bound=bound_value,
-                  bound_kind=cast(Any, kind), gap=gap, exact=exact, solver=solver,
-                  status=cast(Any, _status(root, steps, exact)), wall_time=root.elapsed(), seed=root.seed,
-                  warnings=tuple(warnings), feasible=None if report is None else all(c.get("satisfied") for c in report),
-                  constraints=tuple(report or ()), solutions=tuple(answers), info=info)
+    plain = values.tolist()
+    # Every field is built here from checked parts, so the model is constructed without re-validation:
+    # validating a million-entry assignment would cost seconds of the caller's time limit.
+    return Result.model_construct(
+        form=form.form, assignment=dict(zip(problem.labels, plain)), array=tuple(plain), objective=objective,
+        sense=form.sense, bound=bound_value, bound_kind=cast(Any, kind), gap=gap, exact=exact, solver=solver,
+        status=cast(Any, _status(root, steps, exact)), wall_time=root.elapsed(), seed=root.seed,
+        warnings=tuple(warnings), feasible=None if report is None else all(c.get("satisfied") for c in report),
+        constraints=tuple(jsonable(c) for c in report or ()), solutions=tuple(answers), info=jsonable(info))
 
 
 def _bound(state: _Solve, canonical_value: float, exact: bool, info: dict[str, Any]) -> tuple[float | None, str | None]:

@@ -99,7 +99,8 @@ def _compute(problem: CanonicalProblem, budget: float | None) -> Profile:
         degeneracy, treewidth = None, None
     else:
         rows, cols, vals = _upper_entries(problem)
-        components, frustration_free = _signed_structure(n, rows, cols, vals)
+        components, frustration_free, labels = _signed_structure(n, rows, cols, vals)
+        problem.meta["_component_labels"] = labels
         ferromagnetic = bool(np.all(vals >= 0))
         degeneracy, treewidth = _treewidth(n, rows, cols, stats.density)
     spectral = _mean_field_spectrum(problem, stats) if stats.density >= DENSE_FILL and n >= 50 else {}
@@ -186,40 +187,30 @@ def _dense_with_zeros(K: np.ndarray) -> tuple[int, bool] | None:
     return None
 
 
-def _signed_structure(n: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarray) -> tuple[int, bool]:
-    """Number of connected components, and whether the signed coupling graph is balanced."""
+def _signed_structure(n: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarray) -> tuple[int, bool, np.ndarray]:
+    """(number of connected components, balanced?, each spin's component label).
+
+    One call of scipy's connected components on the doubled graph: spin i becomes i⁺ and i⁻,
+    a positive coupling joins i⁺–j⁺ and i⁻–j⁻, a negative one i⁺–j⁻ and i⁻–j⁺.  The signed
+    graph is balanced (frustration-free) iff no i⁺ is joined to its i⁻; a component of the
+    coupling graph is the pair of labels {label(i⁺), label(i⁻)} its spins share.
+    """
     if n == 0:
-        return 0, True
+        return 0, True, np.zeros(0, dtype=np.int64)
     import scipy.sparse as sp
-    from scipy.sparse.csgraph import breadth_first_order, connected_components
+    from scipy.sparse.csgraph import connected_components
 
-    sign = np.sign(vals)
-    G = sp.coo_array((sign, (rows, cols)), shape=(n, n)).tocsr()
-    G = sp.csr_array(G + G.T)
-    count, label = connected_components(G, directed=False)
-    # one breadth-first sweep from a virtual node n joined (sign +) to every component's first spin
-    roots = np.unique(label, return_index=True)[1]
-    link = sp.coo_array((np.ones(len(roots)), (np.full(len(roots), n), roots)), shape=(n + 1, n + 1))
-    H = sp.csr_array(sp.block_diag([G, sp.csr_array((1, 1))]) + link + link.T)
-    order, pred = breadth_first_order(H, n, directed=False, return_predecessors=True)
-    tau = np.zeros(n + 1, dtype=np.int8)
-    tau[n] = 1
-    _propagate(H, order, pred, tau)
-    tau = tau[:n]
-    balanced = bool(np.all(tau[rows] * tau[cols] * sign > 0))
-    return int(count), balanced
-
-
-def _propagate(G: Any, order: np.ndarray, pred: np.ndarray, tau: np.ndarray) -> None:
-    """τ_j = τ_parent · sign(K_parent,j) along the BFS tree, in BFS order."""
-    if len(order) <= 1:
-        return
-    parents = pred[order[1:]]
-    picked = G[parents, order[1:]]
-    edge_sign = np.asarray(picked.toarray() if hasattr(picked, "toarray") else picked).ravel()
-    step = np.where(edge_sign > 0, 1, -1).astype(np.int8)
-    for j, p, s in zip(order[1:].tolist(), parents.tolist(), step.tolist()):
-        tau[j] = tau[p] * s
+    positive = np.concatenate([vals > 0, vals > 0])
+    both_r, both_c = np.concatenate([rows, cols]), np.concatenate([cols, rows])
+    r = np.concatenate([both_r, both_r + n])
+    c = np.concatenate([np.where(positive, both_c, both_c + n), np.where(positive, both_c + n, both_c)])
+    doubled = sp.csr_array((np.ones(r.size, dtype=np.int8), (r, c)), shape=(2 * n, 2 * n))
+    # a symmetric input, so "strong" components are the undirected ones, without scipy's transpose
+    _, label = connected_components(doubled, directed=True, connection="strong")
+    plus, minus = label[:n].astype(np.int64), label[n:].astype(np.int64)
+    pair = np.minimum(plus, minus) * (2 * n) + np.maximum(plus, minus)
+    _, components = np.unique(pair, return_inverse=True)
+    return int(components.max()) + 1, bool(not np.any(plus == minus)), components.astype(np.int64)
 
 
 def _treewidth(n: int, rows: np.ndarray, cols: np.ndarray, density: float) -> tuple[int | None, int | None]:

@@ -66,14 +66,14 @@ def _label_from_json(label: Any) -> Hashable:
     return label
 
 
-def _jsonable(value: Any) -> Any:
+def jsonable(value: Any) -> Any:
     """Turn numpy scalars/arrays and tuples inside info into plain JSON types."""
     if isinstance(value, dict):
-        return {str(k): _jsonable(v) for k, v in value.items()}
+        return {str(k): jsonable(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
-        return [_jsonable(v) for v in value]
+        return [jsonable(v) for v in value]
     if isinstance(value, np.ndarray):
-        return _jsonable(value.tolist())
+        return jsonable(value.tolist())
     if isinstance(value, np.generic):
         return value.item()
     if value is None or isinstance(value, (str, int, float, bool)):
@@ -149,13 +149,13 @@ class Result(FrozenModel):
     @field_validator("constraints", mode="before")
     @classmethod
     def _constraints_plain(cls, value: Any) -> Any:
-        return tuple(_jsonable(v) for v in value) if isinstance(value, (list, tuple)) else value
+        return tuple(jsonable(v) for v in value) if isinstance(value, (list, tuple)) else value
 
     @field_validator("info", mode="before")
     @classmethod
     def _info_plain(cls, value: Any) -> Any:
         """Keep info JSON-shaped (lists, not tuples or arrays) so a round trip is exact."""
-        return _jsonable(value) if isinstance(value, dict) else value
+        return jsonable(value) if isinstance(value, dict) else value
 
     @property
     def values(self) -> np.ndarray:

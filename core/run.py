@@ -102,6 +102,8 @@ class Runner:
         improve = improver_share(part)
         for spec in part.candidates:
             budget = None if end is None else max(end - time.perf_counter(), 0.0) * (1 - improve)
+            if budget is not None and budget < MIN_STEP_SECONDS and spec is not part.candidates[0]:
+                break  # no time for a fallback either: the first candidate's skip says why
             sol = self.step("primary", spec, part, embed, initial, budget)
             if sol is not None:
                 part.sigma, part.exact, part.solver = sol.sigma, sol.exact, spec.name

@@ -73,6 +73,18 @@ SPEC = SolverSpec(
 )
 
 
+def _spectral_cost(problem: CanonicalProblem) -> float:
+    from .certificates import spectral_cost
+
+    return spectral_cost(problem)
+
+
+def _dual_cost(problem: CanonicalProblem) -> float:
+    from .certificates import dual_cost
+
+    return dual_cost(problem)
+
+
 def _spectral(problem: CanonicalProblem, ctx: SolveContext) -> Bound | None:
     from .certificates import spectral_bound
 
@@ -91,9 +103,9 @@ def _explicit(problem: CanonicalProblem) -> bool | str:
 
 BOUNDS = [
     BoundSpec("spectral", _spectral, summary="largest eigenvalue of the ghost-spin lift, Delorme–Poljak shifted",
-              check=_explicit, priority=20),
+              check=_explicit, priority=20, cost=_spectral_cost),
     BoundSpec("sdp-dual", _dual, summary="SDP dual bound from the Burer–Monteiro factor, Cholesky-verified",
-              check=_explicit, priority=10),
+              check=_explicit, priority=10, cost=_dual_cost),
 ]
 
 

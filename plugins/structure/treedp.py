@@ -46,6 +46,7 @@ DEFAULT_MEMORY_MB = 1024      # arg-max tables kept for the read-back
 WORK_PER_SECOND = 3e6         # fill-in work units (Σ (|N|² + 1) per elimination) per second, measured here
 ORDER_SHARE = 0.2             # with a time limit: at most this share of the step goes to the order search
 MIN_DEGREE_MAX_N = 5000       # above this, only the (fast) bandwidth orders are tried
+BANDWIDTH_FACTOR = 4          # above that size, a bandwidth beyond this many times the width limit declines
 
 
 @dataclass
@@ -76,11 +77,32 @@ class Elimination:
 
 
 def adjacency(n: int, i: np.ndarray, j: np.ndarray) -> list[set[int]]:
-    adj: list[set[int]] = [set() for _ in range(n)]
-    for a, b in zip(i.tolist(), j.tolist()):
-        adj[a].add(b)
-        adj[b].add(a)
-    return adj
+    """Neighbour sets, built from a CSR pattern (one slice per spin, no loop over edges)."""
+    import scipy.sparse as sp
+
+    ones = np.ones(2 * i.size, dtype=np.int8)
+    A = sp.csr_array((ones, (np.concatenate([i, j]), np.concatenate([j, i]))), shape=(n, n))
+    ptr, idx = A.indptr, A.indices.tolist()
+    return [set(idx[ptr[v]:ptr[v + 1]]) for v in range(n)]
+
+
+def rcm_order(n: int, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+    """The reverse Cuthill–McKee order of the coupling graph (scipy)."""
+    import scipy.sparse as sp
+    from scipy.sparse.csgraph import reverse_cuthill_mckee
+
+    ones = np.ones(2 * i.size, dtype=np.int8)
+    A = sp.csr_array((ones, (np.concatenate([i, j]), np.concatenate([j, i]))), shape=(n, n))
+    return reverse_cuthill_mckee(A, symmetric_mode=True).astype(np.int64)
+
+
+def bandwidth(order: np.ndarray, i: np.ndarray, j: np.ndarray) -> int:
+    """max |pos(u) − pos(v)| over the couplings: an upper bound on the width of eliminating in ``order``."""
+    if not i.size:
+        return 0
+    pos = np.empty(order.size, dtype=np.int64)
+    pos[order] = np.arange(order.size)
+    return int(np.max(np.abs(pos[i] - pos[j])))
 
 
 def eliminate_spin(adj: list[set[int]], v: int, elim: Elimination) -> None:
@@ -151,14 +173,9 @@ def candidates(n: int, i: np.ndarray, j: np.ndarray, limit: int, budget: Budget)
 
     Each later candidate only has to beat the narrowest order found so far.
     """
-    import scipy.sparse as sp
-    from scipy.sparse.csgraph import reverse_cuthill_mckee
-
     orders: list[tuple[str, np.ndarray | None]] = [("min-degree", None)] if n <= MIN_DEGREE_MAX_N else []
     if i.size:  # without couplings every order has width 0
-        ones = np.ones(2 * i.size, dtype=np.int8)
-        A = sp.csr_array((ones, (np.concatenate([i, j]), np.concatenate([j, i]))), shape=(n, n))
-        rcm = reverse_cuthill_mckee(A, symmetric_mode=True).astype(np.int64)
+        rcm = rcm_order(n, i, j)
         orders = [("reverse Cuthill-McKee", rcm), ("Cuthill-McKee", rcm[::-1]), *orders]
     found: list[Elimination | str] = []
     for name, order in orders:
@@ -231,7 +248,21 @@ def check(problem: CanonicalProblem) -> bool | str:
         return f"{prof.couplings} couplings on {prof.n} spins: more than a graph of treewidth ≤ {DEFAULT_WIDTH} has"
     if prof.treewidth is not None and prof.treewidth > DEFAULT_WIDTH and prof.n <= 64:
         return f"its elimination orders are wider than {DEFAULT_WIDTH} (min-degree found {prof.treewidth})"
+    if prof.n > MIN_DEGREE_MAX_N:  # only the bandwidth orders will be tried: decline when they are far too wide
+        width = _rcm_bandwidth(problem)
+        if width > BANDWIDTH_FACTOR * DEFAULT_WIDTH:
+            return (f"n = {prof.n} is above {MIN_DEGREE_MAX_N}, where only bandwidth orders are tried, and the "
+                    f"reverse Cuthill–McKee bandwidth is {width}")
     return True
+
+
+def _rcm_bandwidth(problem: CanonicalProblem) -> int:
+    cached = problem.meta.get("_treedp_bandwidth")
+    if cached is None:
+        i, j, _ = mincut.couplings_upper(problem)
+        cached = bandwidth(rcm_order(problem.n, i, j), i, j)
+        problem.meta["_treedp_bandwidth"] = cached
+    return cached
 
 
 def into_axes(axes: dict[int, int], ndim: int, scope: list[int], table: np.ndarray) -> np.ndarray:
