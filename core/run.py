@@ -148,7 +148,8 @@ class Runner:
             return None
         finally:
             entry.seconds = time.perf_counter() - t0
-        entry.outcome = "interrupted" if self.ctx.interrupted else ("stopped" if child.expired() else "ended")
+        stopped = child.expired() or sol.status == "time-limit"  # the solver may say the clock ended it
+        entry.outcome = "interrupted" if self.ctx.interrupted else ("stopped" if stopped else "ended")
         entry.value = self.problem.to_objective(part.problem.value(sol.sigma)) if len(part.idx) == self.problem.n \
             else None
         return sol

@@ -237,9 +237,10 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
                 break
             plan = plan.resized(length)
     assert ctx.best_sigma is not None
-    return Solution(sigma=ctx.best_sigma, info={"restarts": done, "sweeps": sweeps_run, "last_sweeps": plan.sweeps,
-                                                "schedule_finished": finished,
-                                                "beta_span": (float(plan.betas[0]), float(plan.betas[-1]))})
+    clock = ctx.time_limit is not None and (done < plan.restarts or not finished)  # the clock, not the work, ended it
+    return Solution(sigma=ctx.best_sigma, status="time-limit" if clock else None,
+                    info={"restarts": done, "sweeps": sweeps_run, "last_sweeps": plan.sweeps,
+                          "schedule_finished": finished, "beta_span": (float(plan.betas[0]), float(plan.betas[-1]))})
 
 
 def fit(problem: CanonicalProblem) -> float:

@@ -379,9 +379,10 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
         if ctx.should_stop():
             break
     assert ctx.best_sigma is not None
-    return Solution(sigma=ctx.best_sigma, info={"restarts": runs, "moves": moves, "perturbations": kicks,
-                                                "ball_kicks": balls, "finished": finished, "tenure": opts["tenure"],
-                                                "start": mode})
+    clock = ctx.time_limit is not None and (runs < opts["restarts"] or not finished)  # the clock ended it
+    return Solution(sigma=ctx.best_sigma, status="time-limit" if clock else None,
+                    info={"restarts": runs, "moves": moves, "perturbations": kicks, "ball_kicks": balls,
+                          "finished": finished, "tenure": opts["tenure"], "start": mode})
 
 
 def fit(problem: Any) -> float:
