@@ -36,6 +36,7 @@ EIGH_FLOP_FACTOR = 4.0 / 3.0   # a dense eigh (one eigenpair) costs about this m
 PASS_SECONDS = 2e-9   # seconds per stored coupling entry for one product with K (memory bound, generous)
 ITERATIONS = 100      # Lanczos restarts of the plain (estimated) bound, at most
 MIN_PASSES = 40       # an iterative estimate with fewer products with K than this is not worth starting
+STEP_SECONDS = 5e-4   # the iterative eigen-solvers' own work per product with K (measured: LOBPCG, sparse)
 SINGLE_THREAD_UP_TO = 3000  # below this N, LAPACK runs on one BLAS thread (faster, and steady under load)
 
 
@@ -57,8 +58,13 @@ def _pass_cost(problem: CanonicalProblem) -> float:
 
 
 def _passes(seconds: float, lifted: CanonicalProblem) -> int:
-    """How many products with K fit into ``seconds`` (at most ``ITERATIONS`` Lanczos restarts' worth)."""
-    return int(min(ITERATIONS * eigen.LANCZOS_BASIS, max(seconds, 0.0) / max(_pass_cost(lifted), 1e-12)))
+    """How many products with K fit into ``seconds`` (at most ``ITERATIONS`` Lanczos restarts' worth).
+
+    Each product also pays the iterative solvers' own work per step (orthogonalisation, small
+    eigenproblems; ``STEP_SECONDS``), which dominates on sparse K.
+    """
+    per = _pass_cost(lifted) + STEP_SECONDS
+    return int(min(ITERATIONS * eigen.LANCZOS_BASIS, max(seconds, 0.0) / per))
 
 
 def available(ctx: SolveContext) -> float:
