@@ -71,7 +71,7 @@ def cmd_solve(args: argparse.Namespace) -> int:
         before_read = seconds_since_start() if started else 0.0
         form = spinward.read_problem(args.file, form=args.form)
         limit = solve_limit(args.time_limit, before_read)
-        with solve_progress(limit):
+        with solve_progress(args.time_limit):
             result = spinward.solve(form, method=args.method, time_limit=limit, seed=args.seed,
                                     **dict(args.option or []))
     print(result.summary())
