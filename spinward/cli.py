@@ -30,12 +30,29 @@ def _option_pair(text: str) -> tuple[str, Any]:
         return key, json.loads(raw)
     except json.JSONDecodeError:
         return key, raw
+    except RecursionError:
+        raise argparse.ArgumentTypeError(f"option {key!r}: the value nests too deeply") from None
+
+
+def _read(args: argparse.Namespace) -> Any:
+    import spinward
+
+    return spinward.read_problem(args.file, form=args.form, format=args.format, weight=args.weight)
+
+
+def _add_file_options(p: argparse.ArgumentParser) -> None:
+    from .adapters.files import FORMATS
+
+    p.add_argument("--format", choices=list(FORMATS), default=None,
+                   help="read the file in this format, whatever its extension")
+    p.add_argument("--weight", default=None, metavar="NAME",
+                   help="the edge attribute (GraphML) or CSV column holding the weights (default: weight)")
 
 
 def cmd_solve(args: argparse.Namespace) -> int:
     import spinward
 
-    form = spinward.read_problem(args.file, form=args.form)
+    form = _read(args)
     result = spinward.solve(form, method=args.method, time_limit=args.time_limit, seed=args.seed,
                             **dict(args.option or []))
     print(result.summary())
@@ -71,7 +88,7 @@ def cmd_inspect(args: argparse.Namespace) -> int:
 
     from .explain import format_choice, inspect_form
 
-    form = spinward.read_problem(args.file, form=args.form)
+    form = _read(args)
     print(format_choice(form, inspect_form(form, spinward.default_registry())))
     return 0
 
@@ -84,10 +101,13 @@ def cmd_bound(args: argparse.Namespace) -> int:
     import spinward
     from spinward.core.context import SolveContext
 
-    form = spinward.read_problem(args.file, form=args.form)
+    form = _read(args)
     problem = form.canonical()
     goal = "lower" if form.sense == "min" else "upper"
     print(f"{form.form} problem, n = {problem.n}: {goal} bounds on the optimum (the caller's objective)")
+    if problem.n == 0:
+        print(f"  no variables: the optimum is the constant {problem.to_objective(problem.k0):.10g}, exactly")
+        return 0
     for provider in spinward.default_registry().bounds():
         verdict = provider.applies(problem)
         if verdict is not True:
@@ -130,12 +150,13 @@ def build_parser() -> argparse.ArgumentParser:
     for name, (_, help_text) in COMMANDS.items():
         p = sub.add_parser(name, help=help_text, description=help_text)
         if name == "solve":
-            p.add_argument("file", help="problem file: .mtx .json .graphml .npy .npz or an edge list")
+            p.add_argument("file", help="problem file: .mtx .json .graphml .npy .npz .csv or an edge list")
             p.add_argument("--method", default="auto", help="solver name or 'auto' (see 'spinward solvers')")
             p.add_argument("--time-limit", type=float, default=None, help="wall-clock seconds")
             p.add_argument("--seed", type=int, default=None, help="random seed (recorded in the result)")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None,
                            help="how to read a bare matrix (.mtx/.npy/.npz); default qubo")
+            _add_file_options(p)
             p.add_argument("--output", "-o", default=None, help="write the result as JSON here")
             p.add_argument("--csv", default=None, help="write the assignment as CSV (label,value) here")
             p.add_argument("--option", action="append", type=_option_pair, metavar="KEY=VALUE",
@@ -145,10 +166,12 @@ def build_parser() -> argparse.ArgumentParser:
         if name == "bound":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
+            _add_file_options(p)
             p.add_argument("--time-limit", type=float, default=None, help="seconds per bound (default: no limit)")
         if name == "inspect":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
+            _add_file_options(p)
         if name == "demo":
             p.add_argument("--seed", type=int, default=0)
     from .bench.cli import add_bench_parser, add_report_parser

@@ -1,8 +1,9 @@
-"""File-reading guards: size limit, existence, readable text."""
+"""File-reading guards: size limit, existence, readable text, printable labels."""
 
 from __future__ import annotations
 
 import os
+import re
 from pathlib import Path
 
 from spinward.core.errors import FileFormatError, InputError
@@ -37,10 +38,45 @@ def checked_path(path: str | os.PathLike[str]) -> Path:
 
 
 def read_text(p: Path) -> str:
+    """The file as UTF-8 text, without a leading byte-order mark."""
+    return decode_text(p, p.read_bytes())
+
+
+def decode_text(p: Path, data: bytes) -> str:
     try:
-        return p.read_text(encoding="utf-8")
+        text = data.decode("utf-8")
     except UnicodeDecodeError as exc:
         raise FileFormatError(f"{p}: not UTF-8 text (byte {exc.start}); is this the right format?") from None
+    return text[1:] if text.startswith("\ufeff") else text
+
+
+def read_bytes(p: Path) -> bytes:
+    """The file's bytes, without a leading UTF-8 byte-order mark."""
+    data = p.read_bytes()
+    return data[3:] if data.startswith(UTF8_BOM) else data
+
+
+UTF8_BOM = b"\xef\xbb\xbf"
+#: control bytes other than tab, line feed and carriage return (C1 controls are multi-byte in UTF-8)
+CONTROL_BYTES = re.compile(rb"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]|\xc2[\x80-\x9f]")
+
+
+#: Unicode's control characters (category Cc): U+0000–U+001F and U+007F–U+009F
+CONTROL_CHARACTERS = re.compile("[\x00-\x1f\x7f-\x9f]")
+
+
+def control_character(text: str) -> str | None:
+    """The first control character in ``text``, or None."""
+    hit = CONTROL_CHARACTERS.search(text)
+    return hit.group() if hit else None
+
+
+def check_label(p: Path, lineno: int, label: str) -> None:
+    """Refuse a label holding a control character (NUL, escape...), naming the line."""
+    ch = control_character(label)
+    if ch is not None:
+        raise bad_line(p, lineno, f"the label {label!r} holds the control character U+{ord(ch):04X}; "
+                                  f"labels must be printable text")
 
 
 def bad_line(p: Path, lineno: int, message: str) -> FileFormatError:
