@@ -109,11 +109,19 @@ def _to_ndarray(data: Any, name: str) -> np.ndarray:
             arr = np.asarray(data)
         except (ValueError, TypeError) as exc:
             raise InputError(f"{name} must be a rectangular array of numbers; it looks ragged ({exc})") from None
-        except OverflowError:
-            raise InputError(f"{name} holds an integer too large for any numeric dtype; beyond 2**53 float64 "
-                             f"is no longer exact: divide by a common factor") from None
+    if arr.dtype.kind == "O":
+        _check_object_integers(arr, name)
     _check_dtype(arr.dtype, name)
     return arr
+
+
+def _check_object_integers(arr: np.ndarray, name: str) -> None:
+    """Python integers too large for int64 make numpy fall back to object arrays: name the first one."""
+    for k, x in enumerate(arr.flat):
+        if isinstance(x, (int, np.integer)) and not isinstance(x, bool) and abs(int(x)) > EXACT_INT:
+            where = ", ".join(map(str, np.unravel_index(k, arr.shape)))
+            raise InputError(f"{name}[{where}] = {int(x)} is beyond 2**53, where float64 is no longer exact; "
+                             f"divide by a common factor, or pass floats if rounding is acceptable")
 
 
 def _exact_float(arr: np.ndarray, name: str) -> np.ndarray:

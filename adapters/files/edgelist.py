@@ -38,9 +38,10 @@ from spinward.core.errors import FileFormatError
 
 from ..graph import MaxCut
 from ..validate import EXACT_INT
-from .safety import CONTROL_BYTES, bad_line, check_label, decode_text, read_bytes
+from .safety import bad_line, check_label, decode_text, has_control_bytes, read_bytes
 
 COMMENT_CHARS = ("#", "%")
+SEPARATORS = re.compile(r"[ \t,]+")
 INTEGER = re.compile(r"\s*[+-]?[0-9]+\s*\Z")  # ASCII digits only: int() would also take other scripts' digits
 
 
@@ -93,8 +94,8 @@ def _records(text: str, delimiter: str | None) -> Iterator[tuple[int, list[str]]
     if delimiter is None:
         for lineno, raw in lines:
             body = raw.split("#", 1)[0].split("%", 1)[0]
-            fields = body.replace(",", " ").split()
-            if fields:
+            fields = SEPARATORS.split(body.strip(" \t\r\n"))  # not str.split(): it also splits at control characters
+            if fields != [""]:
                 yield lineno, fields
         return
     at = [0]
@@ -163,14 +164,16 @@ def _weight_column(p: Path, lineno: int, names: list[str], weight: str | None) -
 
 def _numeric_fast(data: bytes, text: str, layout: Layout) -> MaxCut | None:
     """numpy's C parser for integer labels; None whenever the line parser must look instead."""
-    if (layout.width not in (2, 3) and not layout.header_line) or CONTROL_BYTES.search(data) or b'"' in data:
+    if (layout.width not in (2, 3) and not layout.header_line) or b'"' in data or has_control_bytes(data):
         return None
     columns = (0, 1) if layout.weight_column is None else (0, 1, layout.weight_column)
     dtype = [("u", np.int64), ("v", np.int64)] + ([("w", np.float64)] if len(columns) == 3 else [])
+    # numpy parses one comment character in C, but several through a Python loop per line
+    comments = [c for c in COMMENT_CHARS if c.encode() in data] or "#"
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")  # "no data" and parsing warnings: the line parser decides
-            rec = np.loadtxt(io.StringIO(text), dtype=dtype, comments=list(COMMENT_CHARS),
+            rec = np.loadtxt(io.StringIO(text), dtype=dtype, comments=comments,
                              delimiter=layout.delimiter, skiprows=layout.header_line, ndmin=1,
                              usecols=columns if layout.header_line else None)
     except (ValueError, IndexError, OverflowError):

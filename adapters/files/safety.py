@@ -57,8 +57,13 @@ def read_bytes(p: Path) -> bytes:
 
 
 UTF8_BOM = b"\xef\xbb\xbf"
-#: control bytes other than tab, line feed and carriage return (C1 controls are multi-byte in UTF-8)
-CONTROL_BYTES = re.compile(rb"[\x00-\x08\x0b\x0c\x0e-\x1f\x7f]|\xc2[\x80-\x9f]")
+#: every byte but the ASCII controls other than tab, line feed and carriage return
+_NOT_CONTROL = bytes(b for b in range(256) if (b >= 32 or b in (9, 10, 13)) and b != 127)
+
+
+def has_control_bytes(data: bytes) -> bool:
+    """Whether ``data`` holds an ASCII control byte other than tab, LF or CR (C speed: bytes.translate)."""
+    return bool(data.translate(None, _NOT_CONTROL))
 
 
 #: Unicode's control characters (category Cc): U+0000–U+001F and U+007F–U+009F
