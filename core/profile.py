@@ -20,12 +20,15 @@ from typing import Any
 import numpy as np
 
 from .canonical import CanonicalProblem
+from .spectrum import lanczos_ritz
+from .statistics import CouplingStats, coupling_stats
 
 DENSE_FILL = 0.25          # at least this share of pairs coupled counts as dense
 TREEWIDTH_MAX_NODES = 1000   # the min-degree heuristic costs up to ~1 s at 2000 nodes
 LANCZOS_STEPS = 16
 SPECTRAL_SUBSET = 1500
-SAMPLE = 20_000            # entries sampled for dense kurtosis and the frustration pre-check
+SAMPLE = 20_000            # entries sampled for the frustration pre-check
+HEAVY_TAIL_EXCESS_KURTOSIS = 3.0  # above this the couplings count as heavy-tailed (Gaussian 0, ±1 −2)
 TREEWIDTH_GIVE_UP = 24     # degeneracy above this: treewidth is surely too large for tree DP
 SEMICIRCLE_EDGE = 2.0
 
@@ -43,7 +46,7 @@ class Profile:
     std: float                   # over all pairs, zeros included
     nonzero_mean: float
     nonzero_std: float
-    kurtosis: float              # of the non-zero couplings (3 for Gaussian, 1 for ±1)
+    excess_kurtosis: float       # of the non-zero couplings (0 for Gaussian, −2 for ±1; nan when unknown)
     max_abs: float
     field_ratio: float           # rms(b) / rms row norm of K (0 without fields)
     has_fields: bool
@@ -87,26 +90,27 @@ def _compute(problem: CanonicalProblem, budget: float) -> Profile:
     n = problem.n
     if problem.kind == "operator":
         return _operator_profile(problem, t0)
-    pairs = n * (n - 1) // 2
+    stats = coupling_stats(problem)
+    assert stats is not None
     fast = _dense_structure(problem) if problem.kind == "dense" and n > 64 else None
     if fast is not None:
-        stats, vals = _dense_stats(problem, pairs)
-        components, frustration_free = fast
+        components, frustration_free, ferromagnetic = fast
         degeneracy, treewidth = None, None
     else:
         rows, cols, vals = _upper_entries(problem)
-        stats = _coupling_stats(vals, pairs)
         components, frustration_free = _signed_structure(n, rows, cols, vals)
-        degeneracy, treewidth = _treewidth(n, rows, cols, budget, stats["density"])
-    spectral = _mean_field_spectrum(problem, stats) if stats["density"] >= DENSE_FILL and n >= 50 else {}
+        ferromagnetic = bool(np.all(vals >= 0))
+        degeneracy, treewidth = _treewidth(n, rows, cols, budget, stats.density)
+    spectral = _mean_field_spectrum(problem, stats) if stats.density >= DENSE_FILL and n >= 50 else {}
     score, reasons = _mean_field_score(n, stats, spectral, problem)
-    stats_fields: dict[str, Any] = stats
-    return Profile(n=n, couplings=len(vals), components=components, kind=problem.kind,
-                   ferromagnetic=bool(np.all(vals >= 0)), frustration_free=frustration_free,
-                   degeneracy=degeneracy, treewidth=treewidth, has_fields=problem.has_fields,
-                   field_ratio=_field_ratio(problem, vals), mean_field_score=score, mean_field_reasons=reasons,
-                   top_eigenvalues=spectral.get("top", ()), mean_outlier=spectral.get("outlier", 0.0),
-                   seconds=time.perf_counter() - t0, **stats_fields)
+    kurt = math.nan if stats.excess_kurtosis is None else stats.excess_kurtosis
+    return Profile(n=n, couplings=stats.couplings, density=stats.density, components=components, kind=problem.kind,
+                   mean=stats.mean, std=stats.std, nonzero_mean=stats.nonzero_mean, nonzero_std=stats.nonzero_std,
+                   excess_kurtosis=kurt, max_abs=stats.max_abs, ferromagnetic=ferromagnetic,
+                   frustration_free=frustration_free, degeneracy=degeneracy, treewidth=treewidth,
+                   has_fields=problem.has_fields, field_ratio=_field_ratio(problem, stats),
+                   mean_field_score=score, mean_field_reasons=reasons, top_eigenvalues=spectral.get("top", ()),
+                   mean_outlier=spectral.get("outlier", 0.0), seconds=time.perf_counter() - t0)
 
 
 def _upper_entries(problem: CanonicalProblem) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -122,50 +126,40 @@ def _upper_entries(problem: CanonicalProblem) -> tuple[np.ndarray, np.ndarray, n
     return r.astype(np.int64), c.astype(np.int64), K[r, c].astype(np.float64)
 
 
-def _coupling_stats(vals: np.ndarray, pairs: int) -> dict[str, float]:
-    if pairs == 0 or vals.size == 0:
-        return dict(density=0.0, mean=0.0, std=0.0, nonzero_mean=0.0, nonzero_std=0.0, kurtosis=0.0, max_abs=0.0)
-    total, total2 = float(vals.sum()), float((vals ** 2).sum())
-    mean = total / pairs
-    var = max(total2 / pairs - mean ** 2, 0.0)
-    nz_mean = float(vals.mean())
-    centred = vals - nz_mean
-    nz_var = float((centred ** 2).mean())
-    kurt = float((centred ** 4).mean() / nz_var ** 2) if nz_var > 0 else 0.0
-    return dict(density=vals.size / pairs, mean=mean, std=math.sqrt(var), nonzero_mean=nz_mean,
-                nonzero_std=math.sqrt(nz_var), kurtosis=kurt, max_abs=float(np.abs(vals).max()))
-
-
-def _field_ratio(problem: CanonicalProblem, vals: np.ndarray) -> float:
+def _field_ratio(problem: CanonicalProblem, stats: CouplingStats) -> float:
+    """rms(b) over the rms row norm of K, √(Σ_{j} K_ij²) averaged as a square over rows."""
     if not problem.has_fields:
         return 0.0
     rms_b = float(np.sqrt(np.mean(problem.b ** 2)))
-    row_norm = math.sqrt(2.0 * float((vals ** 2).sum()) / max(problem.n, 1))
+    squares = stats.pairs * (stats.std ** 2 + stats.mean ** 2)  # Σ_{i<j} K_ij²
+    row_norm = math.sqrt(2.0 * squares / max(problem.n, 1))
     return rms_b / row_norm if row_norm > 0 else math.inf
 
 
-def _dense_structure(problem: CanonicalProblem) -> tuple[int, bool] | None:
-    """For a dense K whose first row has no zero: one component; balanced iff sign(K) = ττᵀ with τ = sign(K₀·).
+def _dense_structure(problem: CanonicalProblem) -> tuple[int, bool, bool] | None:
+    """For a dense K whose first row has no zero: (1 component, balanced?, ferromagnetic?).
 
-    A random sample of entries is tried first: one frustrated entry settles it.
+    Balanced iff sign(K) = ττᵀ with τ = sign(K₀·).  A random sample of entries is tried
+    first: one frustrated entry settles it (and then K is not ferromagnetic either).
     """
     K = np.asarray(problem.K)
     n = K.shape[0]
-    first = K[0, 1:]
+    first = np.asarray(K[0, 1:])
     if np.any(first == 0):
-        return _dense_with_zeros(K)
+        found = _dense_with_zeros(K)
+        return None if found is None else (*found, False)
     tau = np.concatenate([[1.0], np.sign(first)])
     rng = np.random.default_rng(0)
     i, j = rng.integers(0, n, size=(2, SAMPLE))
     off = i != j
     if np.any(K[i[off], j[off]] * tau[i[off]] * tau[j[off]] <= 0):
-        return 1, False
+        return 1, False, False
     for start in range(0, n, 256):  # row blocks keep temporaries small
-        block = K[start:start + 256] * tau[start:start + 256, None] * tau[None, :]
+        block = np.asarray(K[start:start + 256], dtype=np.float64) * tau[start:start + 256, None] * tau[None, :]
         block[np.arange(block.shape[0]), np.arange(start, start + block.shape[0])] = 1.0
         if np.any(block <= 0):
-            return 1, False
-    return 1, True
+            return 1, False, False
+    return 1, True, bool(np.all(tau > 0))
 
 
 def _dense_with_zeros(K: np.ndarray) -> tuple[int, bool] | None:
@@ -190,27 +184,6 @@ def _dense_with_zeros(K: np.ndarray) -> tuple[int, bool] | None:
     if np.any(distinct & (product < 0)):
         return 1, False
     return None
-
-
-def _dense_stats(problem: CanonicalProblem, pairs: int) -> tuple[dict[str, float], np.ndarray]:
-    """Exact moments from full sums; the kurtosis and ferromagnetism from the full sign check and a sample."""
-    K = np.asarray(problem.K, dtype=np.float64)
-    n = K.shape[0]
-    total, total2 = float(K.sum()) / 2, float(np.einsum("ij,ij->", K, K)) / 2
-    nnz = int(np.count_nonzero(K)) // 2
-    rng = np.random.default_rng(1)
-    i, j = rng.integers(0, n, size=(2, SAMPLE))
-    sample = K[i[i != j], j[i != j]]
-    sample = sample[sample != 0]
-    mean = total / pairs
-    nz_mean = total / max(nnz, 1)
-    nz_var = max(total2 / max(nnz, 1) - nz_mean ** 2, 0.0)
-    centred = sample - nz_mean
-    kurt = float((centred ** 4).mean() / nz_var ** 2) if nz_var > 0 and sample.size else 0.0
-    stats: dict[str, Any] = dict(density=nnz / pairs, mean=mean, std=math.sqrt(max(total2 / pairs - mean ** 2, 0.0)),
-                 nonzero_mean=nz_mean, nonzero_std=math.sqrt(nz_var), kurtosis=kurt, max_abs=max(float(K.max()), -float(K.min())))
-    signs = np.array([float(K.min())])  # ferromagnetic iff the smallest entry is ≥ 0
-    return stats, signs
 
 
 def _signed_structure(n: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarray) -> tuple[int, bool]:
@@ -271,9 +244,9 @@ def _treewidth(n: int, rows: np.ndarray, cols: np.ndarray, budget: float, densit
     return int(degeneracy), int(width)
 
 
-def _mean_field_spectrum(problem: CanonicalProblem, stats: dict[str, float]) -> dict[str, Any]:
+def _mean_field_spectrum(problem: CanonicalProblem, stats: CouplingStats) -> dict[str, Any]:
     """Top Ritz values of A = (K − m(11ᵀ − I))/(s√n) after a short Lanczos run, and the mean's outlier."""
-    n, m, s = problem.n, stats["mean"], stats["std"]
+    n, m, s = problem.n, stats.mean, stats.std
     if s == 0:
         return {}
     K: Any = problem.K
@@ -292,42 +265,17 @@ def _mean_field_spectrum(problem: CanonicalProblem, stats: dict[str, float]) -> 
             "subset": size}
 
 
-def lanczos_ritz(matvec: Any, n: int, *, steps: int, seed: int = 0) -> np.ndarray:
-    """Ritz values (descending) of a symmetric operator after ``steps`` Lanczos steps with full reorthogonalisation.
-
-    The largest Ritz value is a lower estimate of the largest eigenvalue; an
-    isolated outlier converges within a few steps, the semicircle edge slowly.
-    """
-    steps = min(steps, n)
-    Q = np.zeros((steps, n))
-    alpha, beta = np.zeros(steps), np.zeros(steps)
-    q = np.random.default_rng(seed).normal(size=n)
-    q /= np.linalg.norm(q)
-    for k in range(steps):
-        Q[k] = q
-        w = matvec(q)
-        alpha[k] = q @ w
-        w -= Q[: k + 1].T @ (Q[: k + 1] @ w)
-        beta[k] = np.linalg.norm(w)
-        if beta[k] < 1e-12:
-            steps = k + 1
-            break
-        q = w / beta[k]
-    T = np.diag(alpha[:steps]) + np.diag(beta[: steps - 1], 1) + np.diag(beta[: steps - 1], -1)
-    return np.sort(np.linalg.eigvalsh(T))[::-1]
-
-
-def _mean_field_score(n: int, stats: dict[str, float], spectral: dict[str, Any],
+def _mean_field_score(n: int, stats: CouplingStats, spectral: dict[str, Any],
                       problem: CanonicalProblem) -> tuple[float, tuple[str, ...]]:
     """1 for SK-like couplings, lower (with reasons) for each violated assumption."""
     reasons: list[str] = []
     score = 1.0
-    if stats["density"] < DENSE_FILL:
+    if stats.density < DENSE_FILL:
         score *= 0.1
-        reasons.append(f"sparse: only {100 * stats['density']:.2g}% of pairs are coupled")
-    if stats["kurtosis"] > 6.0:
+        reasons.append(f"sparse: only {100 * stats.density:.2g}% of pairs are coupled")
+    if stats.excess_kurtosis is not None and stats.excess_kurtosis > HEAVY_TAIL_EXCESS_KURTOSIS:
         score *= 0.3
-        reasons.append(f"heavy-tailed couplings (kurtosis {stats['kurtosis']:.3g}; Gaussian is 3)")
+        reasons.append(f"heavy-tailed couplings (excess kurtosis {stats.excess_kurtosis:.3g}; Gaussian is 0)")
     top = spectral.get("top", ())
     if top and top[0] > SEMICIRCLE_EDGE * (1 + 2.0 * n ** (-2 / 3)) + 0.05:
         score *= 0.4
@@ -345,7 +293,7 @@ def _mean_field_score(n: int, stats: dict[str, float], spectral: dict[str, Any],
 def _operator_profile(problem: CanonicalProblem, t0: float) -> Profile:
     n = problem.n
     return Profile(n=n, couplings=n * (n - 1) // 2, density=1.0, components=1, kind="operator", mean=math.nan,
-                   std=math.nan, nonzero_mean=math.nan, nonzero_std=math.nan, kurtosis=math.nan, max_abs=math.nan,
+                   std=math.nan, nonzero_mean=math.nan, nonzero_std=math.nan, excess_kurtosis=math.nan, max_abs=math.nan,
                    field_ratio=0.0, has_fields=problem.has_fields, ferromagnetic=False, frustration_free=False,
                    degeneracy=None, treewidth=None, mean_field_score=0.5,
                    mean_field_reasons=("matrix-free couplings: statistics not inspected",),

@@ -24,7 +24,7 @@ def format_choice(form: Any, choice: Choice) -> str:
     lines = [f"problem:     {form.form}, n = {p.n}, {p.couplings} couplings (density {100 * p.density:.3g}%), "
              f"{p.components} component(s), {p.kind} storage",
              f"couplings:   mean {p.mean:.4g}, std {p.std:.4g} over all pairs; non-zero mean {p.nonzero_mean:.4g}, "
-             f"kurtosis {p.kurtosis:.3g}, max |K| {p.max_abs:.4g}  [{CANONICAL_NOTE.get(form.form, 'canonical form')}]",
+             f"excess kurtosis {p.excess_kurtosis:.3g}, max |K| {p.max_abs:.4g}  [{CANONICAL_NOTE.get(form.form, 'canonical form')}]",
              f"fields:      {'rms ratio to couplings ' + format(p.field_ratio, '.3g') if p.has_fields else 'none'}",
              f"structure:   ferromagnetic {_yn(p.ferromagnetic)}, frustration-free {_yn(p.frustration_free)}, "
              f"treewidth {'≤ ' + str(p.treewidth) if p.treewidth is not None else 'not estimated'}"
