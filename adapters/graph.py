@@ -12,7 +12,6 @@ networkx graph at all (a file of 10⁶ nodes is read that way).
 
 from __future__ import annotations
 
-import math
 from numbers import Real
 from typing import Any, Hashable, Iterable
 
@@ -22,7 +21,7 @@ from spinward.core.canonical import CanonicalProblem
 from spinward.core.errors import InputError
 
 from ._base import CachedForm, build_canonical
-from .validate import EXACT_INT, check_dense_memory, check_number, inexact_sum, labels_for
+from .validate import EXACT_INT, check_dense_memory, check_number, correctly_rounded_sum, inexact_sum, labels_for
 
 #: graphs at least this dense get a dense coupling matrix
 DENSE_FILL = 0.1
@@ -130,7 +129,7 @@ class MaxCut(CachedForm):
         W = sp.csr_array(W + W.T)
         W.sum_duplicates()
         W.eliminate_zeros()
-        total = math.fsum(self._w.tolist())
+        total = correctly_rounded_sum(self._w)
         P: Any = W * -0.5
         if n and W.nnz >= DENSE_FILL * n * n:
             check_dense_memory(n)
@@ -147,7 +146,7 @@ class MaxCut(CachedForm):
         if x.shape != (len(self._labels),):
             raise InputError(f"expected {len(self._labels)} sides, got shape {x.shape}")
         cut = x[self._rows] != x[self._cols]
-        return math.fsum(self._w[cut].tolist())
+        return correctly_rounded_sum(self._w[cut])
 
 
 def _index_array(data: Any, name: str) -> np.ndarray:

@@ -207,6 +207,14 @@ def power_of_two_scale(*magnitudes: float) -> float:
     return math.ldexp(1.0, math.frexp(big)[1])
 
 
+def correctly_rounded_sum(values: np.ndarray) -> float:
+    """Σ values rounded once (math.fsum); ±inf when the sum leaves float64 range."""
+    try:
+        return math.fsum(values.tolist())
+    except OverflowError:  # an intermediate sum passed float64's range
+        return math.copysign(math.inf, float(np.sum(values, dtype=np.float64)))
+
+
 def check_total(total: float, what: str) -> None:
     if not math.isfinite(total) or total > 1e307:
         raise InputError(f"{what} sums to about {total:.3g}, beyond float64 range for objective values; "

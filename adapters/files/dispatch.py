@@ -72,9 +72,8 @@ def read_problem(path: str | os.PathLike[str], *, form: str | None = None, forma
         raise InputError(f"form must be one of {', '.join(FORMS)}, got {form!r}")
     if weight is not None and (not isinstance(weight, str) or not weight):
         raise InputError(f"weight must name an edge attribute or a CSV column, got {weight!r}")
-    fmt = _choose_format(Path(path), format)
     p = checked_path(path)
-    return fmt.read(p, ReadRequest(form=form, weight=weight))
+    return _choose_format(p, format).read(p, ReadRequest(form=form, weight=weight))
 
 
 def _choose_format(p: Path, name: str | None) -> FileFormat:

@@ -38,7 +38,7 @@ from spinward.core.errors import FileFormatError
 
 from ..graph import MaxCut
 from ..validate import EXACT_INT
-from .safety import bad_line, check_label, decode_text, has_control_bytes, read_bytes
+from .safety import bad_line, check_label, decode_text, has_control_bytes, parse_number, read_bytes
 
 COMMENT_CHARS = ("#", "%")
 SEPARATORS = re.compile(r"[ \t,]+")
@@ -111,11 +111,7 @@ def _records(text: str, delimiter: str | None) -> Iterator[tuple[int, list[str]]
 
 
 def _is_number(token: str) -> bool:
-    try:
-        float(token)
-    except ValueError:
-        return False
-    return True
+    return parse_number(token) is not None
 
 
 def _find_layout(p: Path, text: str, layout: Layout, weight: str | None) -> None:
@@ -214,6 +210,9 @@ def _parse_lines(p: Path, text: str, layout: Layout) -> Parsed:
 
 
 def _add_record(p: Path, lineno: int, fields: list[str], layout: Layout, out: Parsed) -> None:
+    if len(fields) == 1 and layout.delimiter is not None and re.search(r"[;\t|]", fields[0]):
+        raise bad_line(p, lineno, f"one field {fields[0]!r}: CSV fields are separated by commas (read a "
+                                  f"whitespace-separated file with format 'edgelist')")
     for token in fields[:2]:
         check_label(p, lineno, token)
         if not token:
@@ -239,10 +238,9 @@ def _weight(p: Path, lineno: int, token: str) -> float:
             raise bad_line(p, lineno, f"the weight {token.strip()} is an integer beyond 2**53, where float64 is "
                                       f"no longer exact; divide the weights by a common factor")
         return float(value)
-    try:
-        w = float(token)
-    except ValueError:
-        raise bad_line(p, lineno, f"weight {token!r} is not a number") from None
+    w = parse_number(token)
+    if w is None:
+        raise bad_line(p, lineno, f"weight {token!r} is not a number")
     if not np.isfinite(w):
         raise bad_line(p, lineno, f"weight {token!r} is not finite")
     return w

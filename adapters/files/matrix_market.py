@@ -15,6 +15,7 @@ names the line of anything that is not.
 
 from __future__ import annotations
 
+import io
 import re
 from dataclasses import dataclass
 from pathlib import Path
@@ -23,7 +24,7 @@ from typing import Any
 import numpy as np
 
 from ..validate import EXACT_INT, check_dense_memory
-from .safety import bad_line, decode_text, read_bytes
+from .safety import bad_line, decode_text, has_control_bytes, parse_number, read_bytes
 
 FIELDS = {"real", "integer", "pattern", "double"}
 SYMMETRIES = {"general", "symmetric", "skew-symmetric"}
@@ -132,14 +133,24 @@ def _ints(p: Path, lineno: int, tokens: list[str], count: int, what: str) -> lis
 
 
 def _scipy_read(p: Path, data: bytes, head: Header) -> Any:
-    """scipy's reading when it agrees with the text, else None (our parser then reads the file)."""
+    """scipy's reading when the text is one scipy reads faithfully, else None (our parser then reads it).
+
+    scipy reads the longest number at the start of each field and ignores the rest of the
+    field ('1,5' as 1, '0x10' as 0, '1.2.3' as 1.2), and a NUL byte after a value crashes
+    its reader; so the text is checked first, and scipy is given exactly the checked bytes.
+    """
     import scipy.io
 
+    body = data[head.body_start:]
+    if has_control_bytes(data[:head.body_start]) or not well_formed_numbers(body):
+        return None
+    if head.field == "integer" and any(body.find(c) >= 0 for c in (b".", b"e", b"E")):
+        return None
     try:
-        m = scipy.io.mmread(p, spmatrix=False)
+        m = scipy.io.mmread(io.BytesIO(data), spmatrix=False)
     except Exception:  # noqa: BLE001 - any failure: our parser names the line, or reads what scipy refused
         return None
-    if tuple(m.shape) != (head.n, head.n) or not _fields_agree(data, head):
+    if tuple(m.shape) != (head.n, head.n) or not _fields_agree(body, head):
         return None
     values = m.data if hasattr(m, "row") else m
     if values.size and not (np.all(np.isfinite(values)) and float(np.abs(values).max()) < EXACT_INT):
@@ -147,16 +158,49 @@ def _scipy_read(p: Path, data: bytes, head: Header) -> Any:
     return m
 
 
-def _fields_agree(data: bytes, head: Header) -> bool:
-    """Every body line holds ``width`` fields, and an integer field holds only integers."""
-    body = data[head.body_start:]
-    if head.field == "integer" and any(body.find(c) >= 0 for c in (b".", b"e", b"E")):
-        return False
+def _fields_agree(body: bytes, head: Header) -> bool:
+    """Every entry's line holds ``width`` fields (scipy counts lines, not fields)."""
     lines = head.entries
     expected = lines * head.width
-    if body.count(b" ") + body.count(b"\t") == lines * (head.width - 1) and b"%" not in body:
-        return True  # single separators: as many fields as declared, with no need to count them
-    return _count_fields(body) == expected
+    newlines = body.count(b"\n") + (1 if body and not body.endswith(b"\n") else 0)
+    separators = body.count(b" ") + body.count(b"\t")
+    if newlines == lines and separators == lines * (head.width - 1):
+        return True  # one line per entry, single separators: the declared fields, with no need to count them
+    return _count_fields(body) == expected  # scipy counted the lines (except short symmetric arrays)
+
+
+DIGIT, BLANK, DOT, EXPONENT, SIGN, OTHER = range(6)
+_CLASSES = bytes(DIGIT if chr(b).isdigit() and b < 128 else BLANK if b in b" \t\r\n" else DOT if b == ord(".")
+                 else EXPONENT if b in b"eE" else SIGN if b in b"+-" else OTHER for b in range(256))
+
+
+def well_formed_numbers(body: bytes) -> bool:
+    """Whether every blank-separated field of ``body`` is a decimal number [±]digits[.digits][e[±]digits].
+
+    Vectorised over the non-digit bytes only (a digit's neighbours are found from the gaps
+    between non-digit positions), so a 137 MB file costs a fraction of scipy's parse.
+    """
+    cls = np.frombuffer(body.translate(_CLASSES), dtype=np.uint8)
+    pos = np.flatnonzero(cls)
+    if pos.size == 0:
+        return True
+    c = cls[pos]
+    if (c == OTHER).any():
+        return False
+    digit_gap = np.empty(pos.size + 1, dtype=bool)  # digit_gap[k]: a digit sits just before non-digit k
+    digit_gap[0], digit_gap[-1] = pos[0] > 0, pos[-1] < cls.size - 1
+    np.greater(np.diff(pos), 1, out=digit_gap[1:-1])
+    after_digit, before_digit = digit_gap[:-1], digit_gap[1:]
+    prev = np.concatenate(([BLANK], c[:-1])).astype(np.uint8)
+    nxt = np.concatenate((c[1:], [BLANK])).astype(np.uint8)
+    sign, exponent = c == SIGN, c == EXPONENT
+    if (sign & (after_digit | ((prev != BLANK) & (prev != EXPONENT)) | ~(before_digit | (nxt == DOT)))).any():
+        return False  # a sign opens a field or follows an exponent, and a digit or point follows it
+    if (exponent & (~(after_digit | (prev == DOT)) | ~(before_digit | (nxt == SIGN)))).any():
+        return False  # an exponent follows the mantissa and precedes its digits
+    rest = c[~sign]  # within a field: one point at most, one exponent at most, and no point after it
+    a, b = rest[:-1], rest[1:]
+    return not (((b == DOT) & (a != BLANK)) | ((a == EXPONENT) & (b == EXPONENT))).any()
 
 
 def _count_fields(body: bytes) -> int:
@@ -215,10 +259,9 @@ def _number(p: Path, lineno: int, token: str, field: str) -> float:
             raise bad_line(p, lineno, f"the integer {token} is beyond 2**53, where float64 is no longer exact; "
                                       f"divide the matrix by a common factor")
         return float(value)
-    try:
-        number = float(token)
-    except ValueError:
-        raise bad_line(p, lineno, f"{token!r} is not a number") from None
+    number = parse_number(token)
+    if number is None:
+        raise bad_line(p, lineno, f"{token!r} is not a number")
     if not np.isfinite(number):
         raise bad_line(p, lineno, f"{token!r} is not finite")
     return number

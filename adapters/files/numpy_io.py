@@ -86,7 +86,9 @@ def read_npz(p: Path) -> dict[str, Any]:
         if SPARSE_KEYS <= keys:
             import scipy.sparse as sp
 
-            return {"matrix": sp.csr_array(sp.load_npz(p))}
+            matrix = sp.csr_array(sp.load_npz(p))
+            matrix.check_format(full_check=True)  # indices within the shape, pointers in order
+            return {"matrix": matrix}
         with np.load(p, allow_pickle=False) as loaded:
             return {k: loaded[k] for k in keys}
     except FileFormatError:

@@ -24,6 +24,8 @@ def max_file_bytes() -> int:
 
 def checked_path(path: str | os.PathLike[str]) -> Path:
     """The path, after checking it exists, is a file and is under the size limit."""
+    if not isinstance(path, (str, os.PathLike)):
+        raise InputError(f"a file path is a string or a path-like object, got {path!r}")
     p = Path(path)
     if not p.exists():
         raise FileFormatError(f"{p}: no such file")
@@ -82,6 +84,18 @@ def check_label(p: Path, lineno: int, label: str) -> None:
     if ch is not None:
         raise bad_line(p, lineno, f"the label {label!r} holds the control character U+{ord(ch):04X}; "
                                   f"labels must be printable text")
+
+
+#: a decimal number as data files write it (no underscores, no hexadecimal, no other scripts' digits)
+NUMBER = re.compile(r"\s*[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?\s*\Z")
+NON_FINITE = re.compile(r"\s*[+-]?(?:inf|infinity|nan)\s*\Z", re.IGNORECASE)
+
+
+def parse_number(token: str) -> float | None:
+    """The token's value when it is written as a decimal number (inf and nan included), else None."""
+    if NUMBER.match(token) or NON_FINITE.match(token):
+        return float(token)
+    return None
 
 
 def bad_line(p: Path, lineno: int, message: str) -> FileFormatError:
