@@ -136,21 +136,21 @@ def _scipy_read(p: Path, data: bytes, head: Header) -> Any:
     """scipy's reading when the text is one scipy reads faithfully, else None (our parser then reads it).
 
     scipy reads the longest number at the start of each field and ignores the rest of the
-    field ('1,5' as 1, '0x10' as 0, '1.2.3' as 1.2), and a NUL byte after a value crashes
-    its reader; so the text is checked first, and scipy is given exactly the checked bytes.
+    field ('1,5' as 1, '0x10' as 0, '1.2.3' as 1.2), fills a short symmetric array with
+    zeros, and crashes on a NUL byte, on a last line holding two values or ending in blanks
+    without a newline, and on an empty array; so the text
+    is checked first, and scipy is given exactly the checked bytes.
     """
     import scipy.io
 
     body = data[head.body_start:]
-    if has_control_bytes(data[:head.body_start]) or not well_formed_numbers(body):
-        return None
-    if head.field == "integer" and any(body.find(c) >= 0 for c in (b".", b"e", b"E")):
+    if not _scipy_reads_faithfully(data[:head.body_start], body, head):
         return None
     try:
-        m = scipy.io.mmread(io.BytesIO(data), spmatrix=False)
+        m = scipy.io.mmread(io.BytesIO(data if data.endswith(b"\n") else data + b"\n"), spmatrix=False)
     except Exception:  # noqa: BLE001 - any failure: our parser names the line, or reads what scipy refused
         return None
-    if tuple(m.shape) != (head.n, head.n) or not _fields_agree(body, head):
+    if tuple(m.shape) != (head.n, head.n):
         return None
     values = m.data if hasattr(m, "row") else m
     if values.size and not (np.all(np.isfinite(values)) and float(np.abs(values).max()) < EXACT_INT):
@@ -158,15 +158,17 @@ def _scipy_read(p: Path, data: bytes, head: Header) -> Any:
     return m
 
 
-def _fields_agree(body: bytes, head: Header) -> bool:
-    """Every entry's line holds ``width`` fields (scipy counts lines, not fields)."""
-    lines = head.entries
-    expected = lines * head.width
-    newlines = body.count(b"\n") + (1 if body and not body.endswith(b"\n") else 0)
-    separators = body.count(b" ") + body.count(b"\t")
-    if newlines == lines and separators == lines * (head.width - 1):
-        return True  # one line per entry, single separators: the declared fields, with no need to count them
-    return _count_fields(body) == expected  # scipy counted the lines (except short symmetric arrays)
+def _scipy_reads_faithfully(header: bytes, body: bytes, head: Header) -> bool:
+    """Printable header, well-formed numbers, integers in an integer field, ``width`` fields on each entry's line."""
+    if head.n == 0 or head.entries == 0 or has_control_bytes(header) or not well_formed_numbers(body):
+        return False  # (an empty array makes scipy divide by zero; our parser reads empty files at once)
+    if head.field == "integer" and any(body.find(c) >= 0 for c in (b".", b"e", b"E")):
+        return False
+    if head.width == 1 and body.count(b" ") + body.count(b"\t") == 0:  # an array file
+        lines = body.count(b"\n") + (1 if body and not body.endswith(b"\n") else 0)
+        if lines == head.entries and b"\n\n" not in body and not body.startswith(b"\n"):
+            return True  # one field per line, no blank line: as many fields as lines, with no need to count
+    return _fields_per_line_are(body, head.width, head.entries)
 
 
 DIGIT, BLANK, DOT, EXPONENT, SIGN, OTHER = range(6)
@@ -203,12 +205,28 @@ def well_formed_numbers(body: bytes) -> bool:
     return not (((b == DOT) & (a != BLANK)) | ((a == EXPONENT) & (b == EXPONENT))).any()
 
 
-def _count_fields(body: bytes) -> int:
-    """Whitespace-separated fields in ``body`` (numpy, no Python loop)."""
-    printable = np.frombuffer(body, dtype=np.uint8) > 32
-    if printable.size == 0:
-        return 0
-    return int(np.count_nonzero(printable[1:] & ~printable[:-1])) + int(printable[0])
+def _fields_per_line_are(body: bytes, width: int, lines: int) -> bool:
+    """Whether ``body`` holds ``lines`` non-blank lines of exactly ``width`` fields each (vectorised)."""
+    arr = np.frombuffer(body, dtype=np.uint8)
+    printable = arr > 32
+    if not printable.any():
+        return lines == 0
+    starts = np.flatnonzero(printable[1:] & ~printable[:-1]) + 1
+    if printable[0]:
+        starts = np.concatenate(([0], starts))
+    if starts.size != width * lines:
+        return False
+    line_of = np.searchsorted(np.flatnonzero(arr == 10), starts)
+    per_line = np.bincount(line_of)
+    per_line = per_line[per_line > 0]
+    if per_line.size != lines or not np.all(per_line == width):
+        return False
+    if width == 1:
+        return True
+    # every line holds `width` fields, so field k is column k % width: the two index columns hold integers
+    decimal = np.flatnonzero((arr == ord(".")) | (arr == ord("e")) | (arr == ord("E")))
+    column = (np.searchsorted(starts, decimal, side="right") - 1) % width
+    return not np.any(column < 2)
 
 
 def parse_mtx(p: Path) -> Any:
