@@ -12,9 +12,10 @@ written here from the caller's own coefficients (never through spinward's canoni
   input for the returned assignment;
 - crash: any exception other than a forced solver declining the problem (SolverUnsuitableError).
 
-Integer families are checked exactly (Python integers, no tolerance).  Float families allow
-γ_m·M, the worst-case error of summing the objective's m terms in binary64 (Higham, Accuracy
-and Stability of Numerical Algorithms, §4.2), M the sum of the coefficients' magnitudes.
+Integer families whose coefficient mass M stays below 2⁵³ are checked exactly (Python integers,
+no tolerance: every sum is exact in binary64).  Other families allow γ_m·M, the worst-case error
+of summing the objective's m terms in binary64 (Higham, Accuracy and Stability of Numerical
+Algorithms, §4.2), M the sum of the coefficients' magnitudes.
 Families include tiny fields beside unit couplings, huge couplings beside unit fields (the
 case that once made false proofs), and integers up to 2⁵⁰.  Invented instances, fixed seeds.
 """
@@ -177,12 +178,13 @@ FAMILIES: dict[str, Callable[[np.random.Generator, int], Instance]] = {
 
 
 def tolerance(inst: Instance) -> float:
-    """0 for integer data; else γ_m·M for the m terms of the objective."""
-    if inst.integer:
-        return 0.0
+    """0 for integer data whose coefficient mass M is below 2⁵³ (every sum is exact); else γ_m·M."""
     coeffs = inst.coefficients
+    mass = float(np.abs(coeffs).sum())
+    if inst.integer and mass < 2.0**53:
+        return 0.0
     m = coeffs.size + 1
-    return m * U / (1 - m * U) * float(np.abs(coeffs).sum())
+    return m * U / (1 - m * U) * mass
 
 
 def check(inst: Instance, result: spinward.Result, states: np.ndarray, objectives: np.ndarray) -> list[str]:
@@ -195,7 +197,7 @@ def check(inst: Instance, result: spinward.Result, states: np.ndarray, objective
     worse = (exact_value - best) if minimise else (best - exact_value)
     if result.exact and worse > tol:
         failures.append("false proof")
-    if abs(result.objective - float(exact_value)) > (tol if not inst.integer else 0.5 * _ulp(float(exact_value))):
+    if (result.objective != exact_value) if tol == 0 else abs(result.objective - float(exact_value)) > tol:
         failures.append("objective mismatch")
     if result.bound is not None:
         beyond = (result.bound - float(best)) if minimise else (float(best) - result.bound)

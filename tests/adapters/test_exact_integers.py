@@ -114,6 +114,9 @@ DUPLICATES = [
         {"form": "qubo", "terms": [[0, 1, 2**52], [0, 1, 2**52 + 1]]}))), None),
     ("JSON repeated terms, exact", lambda t: spinward.read_problem(_write(t, "p.json", json.dumps(
         {"form": "qubo", "terms": [[0, 1, 2**52], [0, 1, 2**52 - 1]]}))), 2**53 - 1),
+    ("Ising dict, both orders", lambda t: spinward.Ising({("a", "b"): 2**52, ("b", "a"): 2**52 + 1}, {}), None),
+    ("JSON couplings, both orders", lambda t: spinward.read_problem(_write(t, "p.json", json.dumps(
+        {"form": "ising", "couplings": [["a", "b", -2**52], ["b", "a", -2**52 - 1]]}))), None),
     ("Matrix Market duplicates", lambda t: spinward.read_problem(_mtx(t, "integer", (1, 2, 2**52), (1, 2, 2**52 + 1))), None),
     ("multigraph attributes", lambda t: spinward.MaxCut(nx.MultiGraph([(0, 1, {"weight": 2**52}), (1, 0, {"weight": 2**52 + 1})])),
      None),
