@@ -37,6 +37,10 @@ class ResourceError(SpinwardError, MemoryError):
     """The problem is too large for the requested path (memory, size limit)."""
 
 
+class InternalError(SpinwardError):
+    """Something went wrong inside spinward or a plugin, not in the caller's input: please report it."""
+
+
 class SpinwardWarning(UserWarning):
     """Base of the project's warnings."""
 

@@ -44,14 +44,14 @@ def _label_from_json(label: Any) -> Hashable:
     return label
 
 
-def _jsonable(value: Any) -> Any:
+def jsonable(value: Any) -> Any:
     """Turn numpy scalars/arrays and tuples inside info into plain JSON types."""
     if isinstance(value, dict):
-        return {str(k): _jsonable(v) for k, v in value.items()}
+        return {str(k): jsonable(v) for k, v in value.items()}
     if isinstance(value, (list, tuple)):
-        return [_jsonable(v) for v in value]
+        return [jsonable(v) for v in value]
     if isinstance(value, np.ndarray):
-        return _jsonable(value.tolist())
+        return jsonable(value.tolist())
     if isinstance(value, np.generic):
         return value.item()
     if value is None or isinstance(value, (str, int, float, bool)):
@@ -66,8 +66,33 @@ def relative_gap(bound: float | None, objective: float) -> float | None:
     return abs(bound - objective) / max(abs(bound), TINY)
 
 
+class Answer(FrozenModel):
+    """One of several good states (``solve(..., solutions=k)``), in the caller's terms."""
+
+    assignment: dict[Hashable, int]
+    objective: float
+
+    @field_validator("assignment", mode="before")
+    @classmethod
+    def _pairs_to_dict(cls, value: Any) -> Any:
+        if isinstance(value, list):
+            return {_label_from_json(k): v for k, v in value}
+        return value
+
+    @field_serializer("assignment", when_used="json")
+    def _dict_to_pairs(self, value: dict[Hashable, int]) -> list[list[Any]]:
+        return [[_label_to_json(k), int(v)] for k, v in value.items()]
+
+
 class Result(FrozenModel):
-    """The answer to one ``solve()`` call, in the caller's terms."""
+    """The answer to one ``solve()`` call, in the caller's terms.
+
+    ``status``: "optimal" (proved), "time-limit" (the clock stopped a method before its own
+    end), "feasible" (every method ended on its own, no proof), "interrupted" (Ctrl-C).
+    ``feasible`` is None when the problem carries no constraints, else whether the state
+    satisfies all of them (``constraints`` lists each one).  ``solutions`` holds the distinct
+    good states asked for with ``solutions=k``, best first.
+    """
 
     form: str
     assignment: dict[Hashable, int]
@@ -83,6 +108,9 @@ class Result(FrozenModel):
     wall_time: float = Field(ge=0)
     seed: int | None = None
     warnings: tuple[str, ...] = ()
+    feasible: bool | None = None
+    constraints: tuple[dict[str, Any], ...] = ()
+    solutions: tuple[Answer, ...] = ()
     info: dict[str, Any] = Field(default_factory=dict)
 
     @field_validator("assignment", mode="before")
@@ -96,11 +124,16 @@ class Result(FrozenModel):
     def _dict_to_pairs(self, value: dict[Hashable, int]) -> list[list[Any]]:
         return [[_label_to_json(k), int(v)] for k, v in value.items()]
 
+    @field_validator("constraints", mode="before")
+    @classmethod
+    def _constraints_plain(cls, value: Any) -> Any:
+        return tuple(jsonable(v) for v in value) if isinstance(value, (list, tuple)) else value
+
     @field_validator("info", mode="before")
     @classmethod
     def _info_plain(cls, value: Any) -> Any:
         """Keep info JSON-shaped (lists, not tuples or arrays) so a round trip is exact."""
-        return _jsonable(value) if isinstance(value, dict) else value
+        return jsonable(value) if isinstance(value, dict) else value
 
     @property
     def values(self) -> np.ndarray:

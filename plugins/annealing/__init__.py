@@ -28,11 +28,14 @@ from __future__ import annotations
 import math
 import time
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 
+from pydantic import Field
+
 from spinward.core import Capabilities, CanonicalProblem, InputError, Solution, SolveContext, SolverSpec, hookimpl
+from spinward.core.options import SolverOptions
 
 from ..common.couplings import working_couplings
 from ..common.flips import csr_parts, local_search, random_spins
@@ -48,10 +51,21 @@ PROBE_SWEEPS = 20             # length of the schedule that times a sweep
 UNBOUNDED = 10**7             # sweeps: the longest schedule (its β array takes 80 MB)
 GROWTH = 4                    # each schedule is this many times longer than the last, if the time allows
 
-OPTIONS: dict[str, Any] = {
-    "sweeps": None, "restarts": None, "schedule": "linear", "beta_span": None,
-    "rule": "metropolis", "precision": "auto",
-}
+class AnnealOptions(SolverOptions):
+    """Options of simulated annealing (see the module docstring)."""
+
+    sweeps: int | None = Field(None, ge=1, description="sweeps per schedule (default 1000; with a time limit, "
+                                                        "schedules grow ×4 while they pay)")
+    restarts: int | None = Field(None, ge=1, description="schedules from fresh random spins (default 1; with a "
+                                                          "time limit, until the clock stops)")
+    schedule: Literal["linear", "geometric"] = Field("linear", description="how β moves between its ends")
+    beta_span: tuple[float, float] | None = Field(None, description="(low, high) inverse temperatures relative to "
+                                                                    "the coupling scale (default (0.2, 8))")
+    rule: Literal["metropolis", "heat-bath"] = Field("metropolis", description="acceptance rule of a flip")
+    precision: Literal["auto", "float32", "float64"] = Field("auto", description="working copy of the couplings")
+
+
+OPTIONS: dict[str, Any] = {name: field.default for name, field in AnnealOptions.model_fields.items()}
 
 
 @dataclass(frozen=True)
@@ -109,8 +123,8 @@ def make_plan(problem: CanonicalProblem, ctx: SolveContext) -> Plan:
     if not (0 < float(lo) <= float(hi) < math.inf):
         raise InputError(f"anneal: beta_span must be two numbers 0 < lo <= hi, got {(lo, hi)!r}")
     restarts = ctx.option("restarts", None)
-    if restarts is None:  # one anneal, or as many as the time limit allows
-        restarts = 1 if ctx.time_limit is None else 10**9
+    if restarts is None:  # one anneal (one per answer asked for), or as many as the time limit allows
+        restarts = max(1, ctx.solutions) if ctx.time_limit is None else 10**9
     if int(restarts) < 1:
         raise InputError(f"anneal: restarts must be a positive integer or None, got {restarts!r}")
     scale = coupling_scale(problem)
@@ -238,9 +252,9 @@ def fit(problem: CanonicalProblem) -> float:
 SPEC = SolverSpec(
     name="anneal",
     run=run,
-    capabilities=Capabilities(operator=False),
+    capabilities=Capabilities(operator=False, several=True),
     summary="simulated annealing, single-flip Metropolis or heat-bath, β schedule set from the coupling scale",
-    options=OPTIONS,
+    options=AnnealOptions,
     fit=fit,
 )
 

@@ -31,13 +31,12 @@ from typing import Any
 
 import numpy as np
 
-from spinward.core.registry import MEAN_FIELD_ASSUMPTION
 from spinward.core import CanonicalProblem, Capabilities, InputError, Solution, SolveContext, SolverSpec, hookimpl
 from spinward.core.statistics import CouplingStats
 
 from . import diagnostics as diag
 from .message_passing import Matvec, iamp, normalised, raw_matvec, with_ghost
-from .prediction import MIN_PREDICTION_N, fit, fluctuation_e, prediction
+from .prediction import ASSUMPTION, MIN_PREDICTION_N, advise, fit, fluctuation_e, predict, prediction
 
 OPTIONS: dict[str, Any] = {
     "solutions": "auto",     # independent IAMP runs sharing one Parisi solution; the best is returned
@@ -252,11 +251,13 @@ SPEC = SolverSpec(
     name="iamp",
     run=run,
     capabilities=Capabilities(fields=True, dense=True, sparse=True, operator=True, stochastic=True,
-                              assumptions=(MEAN_FIELD_ASSUMPTION,
+                              assumptions=(ASSUMPTION,
                                            "no fields (else one extra spin absorbs them, without guarantee)")),
     summary="IAMP driven by the zero-temperature Parisi solution, then single-flip clean-up",
     options=OPTIONS,
     fit=fit,
+    advise=advise,
+    predict=predict,
 )
 
 

@@ -88,7 +88,7 @@ def test_two_components_solved_per_part(rng):
     assert r.solver == "auto" and r.exact
     # components add up (REFERENCES: K_n gives ⌊n²/4⌋); the tree part checked by milp
     assert r.objective == pytest.approx(milp_maxcut(30, _edges(a)) + 12 * 12 // 4, abs=1e-7)
-    assert len(r.info["portfolio"]) == 2
+    assert len(r.info["parts"]) == 2
 
 
 def test_tiny_problems_are_enumerated(rng):

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import json
 import os
+import shutil
 import subprocess
 import sys
 import sysconfig
@@ -52,6 +53,7 @@ def _run(*args: str, **kwargs) -> subprocess.CompletedProcess:
 def clean_env(tmp_path_factory):
     base = tmp_path_factory.mktemp("installed")
     wheels = base / "wheels"
+    shutil.rmtree(ROOT / "build", ignore_errors=True)  # setuptools' staging folder keeps files deleted since
     pip = [sys.executable, "-m", "pip", "--disable-pip-version-check", "-q"]
     _run(*pip, "wheel", "--no-deps", "--no-build-isolation", "-w", str(wheels), str(ROOT), str(PLUGIN_PACKAGE))
     env_dir = base / "venv"
