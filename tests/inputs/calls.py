@@ -157,7 +157,7 @@ def solve_calls() -> list[ApiCase]:
         a("time-limit-bool", lambda: _solve(Q2, time_limit=True), err(IE, "time_limit must be a positive")),
         a("method-unknown", lambda: _solve(Q2, method="nonesuch"), err(UE, "unknown method 'nonesuch'")),
         a("method-old-name", lambda: _solve(Q2, method="descent"), err(UE, "unknown method 'descent'")),
-        a("method-number", lambda: _solve(Q2, method=5), err(IE, "method must be a solver name or a callable")),
+        a("method-number", lambda: _solve(Q2, method=5), err(IE, "method must be a solver name, 'auto', a SolverSpec or a callable, got 5")),
         a("method-unsuitable", lambda: _solve(spinward.Ising(np.array([[0, 1, -1], [0, 0, 1], [0, 0, 0]])), method="mincut"),
           err(SUE, "method 'mincut' cannot run on this problem")),
         a("read-path-none", lambda: spinward.read_problem(None), err(IE, "a file path is a string or a path-like object")),
@@ -172,8 +172,57 @@ def solve_calls() -> list[ApiCase]:
     ]
 
 
+Q3 = np.array([[1.0, -3.0, 0.0], [0.0, 1.0, 2.0], [0.0, 0.0, -1.0]])
+
+
+def _with(method: str = "auto", **options: Any) -> spinward.Result:
+    return _solve(Q3, method=method, **options)
+
+
+def option_calls() -> list[ApiCase]:
+    """Typed solver options: an unknown name, a wrong type or a value out of range is an InputError."""
+    a = ApiCase
+    return [
+        a("option-sweeps-negative", lambda: _with("anneal", sweeps=-5), err(IE, "anneal: option 'sweeps' = -5 is invalid")),
+        a("option-sweeps-zero", lambda: _with("anneal", sweeps=0), err(IE, "greater than or equal to 1")),
+        a("option-sweeps-float", lambda: _with("anneal", sweeps=2.5), err(IE, "option 'sweeps' = 2.5 is invalid")),
+        a("option-sweeps-string", lambda: _with("anneal", sweeps="10"), err(IE, "option 'sweeps' = '10' is invalid")),
+        a("option-sweeps-bool", lambda: _with("anneal", sweeps=True), err(IE, "option 'sweeps' = True is invalid")),
+        a("option-unknown", lambda: _with("anneal", sweepz=10), err(IE, "unknown option 'sweepz'. Did you mean 'sweeps'?")),
+        a("option-tenure-negative", lambda: _with("tabu", tenure=-1), err(IE, "tabu: option 'tenure' = -1 is invalid")),
+        a("option-tenure-float", lambda: _with("tabu", tenure=2.7), err(IE, "option 'tenure' = 2.7 is invalid")),
+        a("option-restarts-negative", lambda: _with("local", restarts=-1), err(IE, "local: option 'restarts' = -1")),
+        a("option-rule", lambda: _with("anneal", rule="bogus"), err(IE, "option 'rule' = 'bogus' is invalid")),
+        a("option-schedule", lambda: _with("anneal", schedule="bogus"), err(IE, "option 'schedule' = 'bogus'")),
+        a("option-beta-span-order", lambda: _with("anneal", beta_span=(5, 1)), err(IE, "beta_span must be two numbers 0 < lo <= hi")),
+        a("option-beta-span-nan", lambda: _with("anneal", beta_span=(float("nan"), 1)), err(IE, "should be a finite number")),
+        a("option-hyperplanes-zero", lambda: _with("sdp", hyperplanes=0), err(IE, "sdp: option 'hyperplanes' = 0")),
+        a("option-rank-zero", lambda: _with("sdp", rank=0), err(IE, "sdp: option 'rank' = 0")),
+        a("option-tol-negative", lambda: _with("sdp", tol=-1.0), err(IE, "sdp: option 'tol' = -1.0")),
+        a("option-delta-large", lambda: _with("iamp", delta=5.0), err(IE, "option 'delta' must be a number in [1e-4, 0.5]")),
+        a("option-max-width-negative", lambda: _with("treedp", max_width=-1), err(IE, "treedp: option 'max_width' = -1")),
+        a("option-max-levels-huge", lambda: _with("mincut", max_levels=10**30), err(IE, "mincut: option 'max_levels'")),
+        a("bound-share-five", lambda: _with(bound_share=5), err(IE, "option 'bound_share' = 5 is invalid")),
+        a("bound-share-negative", lambda: _with(bound_share=-1), err(IE, "option 'bound_share' = -1 is invalid")),
+        a("bound-share-nan", lambda: _with(bound_share=float("nan")), err(IE, "should be a finite number")),
+        a("bound-string", lambda: _with(bound="yes"), err(IE, "option 'bound' = 'yes' is invalid")),
+        a("explain-string", lambda: _with(explain="x"), err(IE, "option 'explain' = 'x' is invalid")),
+        a("solutions-zero", lambda: _with(solutions=0), err(IE, "option 'solutions' = 0 is invalid")),
+        a("solutions-string", lambda: _with(solutions="3"), err(IE, "option 'solutions' = '3' is invalid")),
+        a("initial-too-short", lambda: _with("tabu", initial=[1]), err(IE, "initial: expected 3 values")),
+        a("initial-bad-value", lambda: _with("tabu", initial=[2, 2, 2]), err(IE, "initial: value 2 for 0 is not one of 1 and 0")),
+        a("initial-bad-labels", lambda: _with("tabu", initial={"x": 1}), err(IE, "initial: no value for label 0")),
+        a("fix-unknown-label", lambda: _with(fix={"zz": 1}), err(IE, "fix: unknown label 'zz'")),
+        a("fix-bad-value", lambda: _with(fix={0: 5}), err(IE, "fix: value 5 for 0 is not one of 1 and 0")),
+        a("solver-options-typo", lambda: _with(solver_options={"anneal": {"sweepz": 1}}), err(IE, "unknown option 'sweepz'")),
+        a("candidates-unknown", lambda: _with(candidates=["nonesuch"]), err(UE, "unknown method 'nonesuch'")),
+        # the minimum of Q3 is −1, at x = (1, 1, 0) and (0, 0, 1) (by hand over its 8 states)
+        a("option-valid", lambda: _with("anneal", sweeps=200, restarts=2), ok(-1.0)),
+    ]
+
+
 def api_cases() -> list[ApiCase]:
-    return matrix_calls() + dict_and_field_calls() + graph_calls() + solve_calls()
+    return matrix_calls() + dict_and_field_calls() + graph_calls() + solve_calls() + option_calls()
 
 
 def cli_cases() -> list[CliCase]:
@@ -201,6 +250,15 @@ def cli_cases() -> list[CliCase]:
         c("option-nested", ["solve", f"{f}/mtx/bom.mtx", "--option", "x=" + "[" * 100_000], 2, "nests too deeply"),
         c("output-unwritable", ["solve", f"{f}/mtx/bom.mtx", "-o", "{tmp}/no/such/dir/r.json"], 2, "No such file or directory"),
         c("csv-to-directory", ["solve", f"{f}/mtx/bom.mtx", "--csv", "{tmp}"], 2, "Is a directory"),
+        c("option-out-of-range", ["solve", f"{f}/mtx/bom.mtx", "--method", "anneal", "--option", "sweeps=-5"], 2,
+          "option 'sweeps' = -5 is invalid"),
+        c("option-wrong-type", ["solve", f"{f}/mtx/bom.mtx", "--method", "tabu", "--option", 'tenure="5"'], 2,
+          "option 'tenure' = '5' is invalid"),
+        c("option-typo", ["solve", f"{f}/mtx/bom.mtx", "--method", "anneal", "--option", "sweepz=10"], 2,
+          "unknown option 'sweepz'. Did you mean 'sweeps'?"),
+        c("option-bound-share", ["solve", f"{f}/mtx/bom.mtx", "--option", "bound_share=5"], 2, "'bound_share' = 5 is invalid"),
+        c("option-initial-short", ["solve", f"{f}/mtx/bom.mtx", "--method", "tabu", "--option", "initial=[1]"], 2,
+          "initial: expected 2 values"),
         c("bound-empty", ["bound", f"{f}/mtx/zero_by_zero.mtx"], 0, "no variables: the optimum is the offset, 0"),
         c("bound-empty-edges", ["bound", f"{f}/edgelist/empty.txt"], 0, "no variables"),
         c("bound-bad-file", ["bound", f"{f}/mtx/negative_size.mtx"], 2, "negative size"),
