@@ -61,30 +61,21 @@ def read_mtx(p: Path) -> Any:
 
 def read_header(p: Path, data: bytes) -> Header:
     """The banner and size line, checked before anything of the declared size is allocated."""
-    pieces = data.split(b"\n", 64)  # the size line follows the banner and any comment lines
-    kind = _banner(p, decode_text(p, pieces[0]).strip())
-    offset = len(pieces[0]) + 1
-    for lineno, raw in enumerate(pieces[1:64], start=2):  # the last piece is the rest of the file
-        offset += len(raw) + 1
-        text = decode_text(p, raw)
+    end = _line_end(data, 0)
+    kind = _banner(p, decode_text(p, data[:end]).strip())
+    offset, lineno = end + 1, 2
+    while offset <= len(data):
+        end = _line_end(data, offset)
+        text = decode_text(p, data[offset:end])
         if text.strip() and not text.lstrip().startswith("%"):
-            return _size_line(p, lineno, text, kind, offset, len(data))
-    if len(pieces) <= 64:
-        raise bad_line(p, len(pieces), "missing the size line")
-    return _size_line_far(p, data)
+            return _size_line(p, lineno, text, kind, end + 1, len(data))
+        offset, lineno = end + 1, lineno + 1
+    raise bad_line(p, lineno - 1, "missing the size line")
 
 
-def _size_line_far(p: Path, data: bytes) -> Header:
-    """A size line after 63 comment lines: found by splitting the whole text (rare)."""
-    lines = data.split(b"\n")
-    kind = _banner(p, decode_text(p, lines[0]).strip())
-    offset = len(lines[0]) + 1
-    for lineno, raw in enumerate(lines[1:], start=2):
-        offset += len(raw) + 1
-        text = decode_text(p, raw)
-        if text.strip() and not text.lstrip().startswith("%"):
-            return _size_line(p, lineno, text, kind, offset, len(data))
-    raise bad_line(p, len(lines), "missing the size line")
+def _line_end(data: bytes, start: int) -> int:
+    end = data.find(b"\n", start)
+    return len(data) if end < 0 else end
 
 
 def _banner(p: Path, banner: str) -> tuple[str, str, str]:
@@ -138,13 +129,12 @@ def _scipy_read(p: Path, data: bytes, head: Header) -> Any:
     scipy reads the longest number at the start of each field and ignores the rest of the
     field ('1,5' as 1, '0x10' as 0, '1.2.3' as 1.2), fills a short symmetric array with
     zeros, and crashes on a NUL byte, on a last line holding two values or ending in blanks
-    without a newline, and on an empty array; so the text
-    is checked first, and scipy is given exactly the checked bytes.
+    without a newline, and on an empty array; so the text is checked first, and scipy is
+    given exactly the checked bytes.
     """
     import scipy.io
 
-    body = data[head.body_start:]
-    if not _scipy_reads_faithfully(data[:head.body_start], body, head):
+    if not _scipy_reads_faithfully(data, head):
         return None
     try:
         m = scipy.io.mmread(io.BytesIO(data if data.endswith(b"\n") else data + b"\n"), spmatrix=False)
@@ -158,56 +148,92 @@ def _scipy_read(p: Path, data: bytes, head: Header) -> Any:
     return m
 
 
-def _scipy_reads_faithfully(header: bytes, body: bytes, head: Header) -> bool:
+def _scipy_reads_faithfully(data: bytes, head: Header) -> bool:
     """Printable header, well-formed numbers, integers in an integer field, ``width`` fields on each entry's line."""
-    if head.n == 0 or head.entries == 0 or has_control_bytes(header) or not well_formed_numbers(body):
+    start = head.body_start
+    if head.n == 0 or head.entries == 0 or has_control_bytes(data[:start]):
         return False  # (an empty array makes scipy divide by zero; our parser reads empty files at once)
-    if head.field == "integer" and any(body.find(c) >= 0 for c in (b".", b"e", b"E")):
+    skeleton = number_skeleton(data, start)
+    if skeleton is None:
         return False
-    if head.width == 1 and body.count(b" ") + body.count(b"\t") == 0:  # an array file
-        lines = body.count(b"\n") + (1 if body and not body.endswith(b"\n") else 0)
-        if lines == head.entries and b"\n\n" not in body and not body.startswith(b"\n"):
+    if head.field != "real" and (skeleton == ord(".")).any() | (skeleton == ord("e")).any():
+        return False  # a point or an exponent in an integer or pattern field, or in a real field's indices below
+    if head.width == 1 and data.find(b" ", start) < 0 and data.find(b"\t", start) < 0:  # an array file
+        if head.symmetry == "general":
+            return True  # one field per line, and scipy counts the lines of a general array itself
+        lines = data.count(b"\n", start) + (1 if len(data) > start and not data.endswith(b"\n") else 0)
+        if lines == head.entries and data.find(b"\n\n", start) < 0 and not data.startswith(b"\n", start):
             return True  # one field per line, no blank line: as many fields as lines, with no need to count
-    return _fields_per_line_are(body, head.width, head.entries)
-
-
-DIGIT, BLANK, DOT, EXPONENT, SIGN, OTHER = range(6)
-_CLASSES = bytes(DIGIT if chr(b).isdigit() and b < 128 else BLANK if b in b" \t\r\n" else DOT if b == ord(".")
-                 else EXPONENT if b in b"eE" else SIGN if b in b"+-" else OTHER for b in range(256))
-
-
-def well_formed_numbers(body: bytes) -> bool:
-    """Whether every blank-separated field of ``body`` is a decimal number [±]digits[.digits][e[±]digits].
-
-    Vectorised over the non-digit bytes only (a digit's neighbours are found from the gaps
-    between non-digit positions), so a 137 MB file costs a fraction of scipy's parse.
-    """
-    cls = np.frombuffer(body.translate(_CLASSES), dtype=np.uint8)
-    pos = np.flatnonzero(cls)
-    if pos.size == 0:
+    if head.width > 1 and _single_spaced_lines(data, start, skeleton, head.width):
         return True
-    c = cls[pos]
-    if (c == OTHER).any():
+    return _fields_per_line_are(data, start, head.width, head.entries)
+
+
+def _single_spaced_lines(data: bytes, start: int, skeleton: np.ndarray, width: int) -> bool:
+    """Coordinate lines 'i j [v]' with one space between fields: checked on the skeleton alone.
+
+    With single spaces and no blanks at the ends of lines, the skeleton of a line (digits and
+    signs deleted) is width − 1 spaces and then the value's points and exponents: so the two
+    integer indices hold neither, and no line holds a field too many or too few.
+    """
+    if any(data.find(x, start) >= 0 for x in (b"\t", b"\r", b"  ", b" \n", b"\n ")) or data.startswith(b" ", start):
         return False
-    digit_gap = np.empty(pos.size + 1, dtype=bool)  # digit_gap[k]: a digit sits just before non-digit k
-    digit_gap[0], digit_gap[-1] = pos[0] > 0, pos[-1] < cls.size - 1
-    np.greater(np.diff(pos), 1, out=digit_gap[1:-1])
-    after_digit, before_digit = digit_gap[:-1], digit_gap[1:]
-    prev = np.concatenate(([BLANK], c[:-1])).astype(np.uint8)
-    nxt = np.concatenate((c[1:], [BLANK])).astype(np.uint8)
-    sign, exponent = c == SIGN, c == EXPONENT
-    if (sign & (after_digit | ((prev != BLANK) & (prev != EXPONENT)) | ~(before_digit | (nxt == DOT)))).any():
-        return False  # a sign opens a field or follows an exponent, and a digit or point follows it
-    if (exponent & (~(after_digit | (prev == DOT)) | ~(before_digit | (nxt == SIGN)))).any():
-        return False  # an exponent follows the mantissa and precedes its digits
-    rest = c[~sign]  # within a field: one point at most, one exponent at most, and no point after it
-    a, b = rest[:-1], rest[1:]
-    return not (((b == DOT) & (a != BLANK)) | ((a == EXPONENT) & (b == EXPONENT))).any()
+    sk = skeleton if not data.endswith(b"\n") else skeleton[:-1]
+    line_starts = np.concatenate(([0], np.flatnonzero(sk == ord("\n")) + 1))
+    padded = np.concatenate((sk, np.full(width, ord("\n"), dtype=np.uint8)))
+    for k in range(width - 1):
+        if not np.all(padded[line_starts + k] == ord(" ")):
+            return False
+    return not np.any(padded[line_starts + width - 1] == ord(" "))
 
 
-def _fields_per_line_are(body: bytes, width: int, lines: int) -> bool:
-    """Whether ``body`` holds ``lines`` non-blank lines of exactly ``width`` fields each (vectorised)."""
-    arr = np.frombuffer(body, dtype=np.uint8)
+DIGIT, BLANK, DOT, SIGN, EXPONENT, OTHER = range(6)
+_CLASSES = bytes(DIGIT if 48 <= b <= 57 else BLANK if b in b" \t\r\n" else DOT if b == 46 else SIGN if b in b"+-"
+                 else EXPONENT if b in b"eE" else OTHER for b in range(256))
+
+
+_E_AS_e = bytes.maketrans(b"E", b"e")
+
+
+def number_skeleton(data: bytes, start: int = 0) -> np.ndarray | None:
+    """The skeleton of ``data[start:]`` (digits and signs deleted, e as e) when every field is a well-formed
+    number that scipy would not read in part; else None.
+
+    At C speed, without copying the text: only number bytes; a sign opens a field or follows
+    an exponent, and precedes a digit or point; an exponent follows a digit or point and
+    precedes a digit or sign; within a field at most one point and one exponent, the point
+    first (checked on the skeleton).  Fields without digits ('.', '-', 'e5') are left to
+    scipy, which refuses them.
+    """
+    cls = np.frombuffer(data.translate(_CLASSES), dtype=np.uint8)[start:]
+    special = np.flatnonzero(cls >= SIGN)
+    if special.size:
+        c = cls[special]
+        if (c == OTHER).any():
+            return None
+        prev = np.where(special > 0, cls[np.maximum(special - 1, 0)], BLANK)
+        nxt = np.where(special < cls.size - 1, cls[np.minimum(special + 1, cls.size - 1)], BLANK)
+        sign, exponent = c == SIGN, c == EXPONENT
+        if (sign & (((prev != BLANK) & (prev != EXPONENT)) | ((nxt != DIGIT) & (nxt != DOT)))).any():
+            return None
+        if (exponent & (((prev != DIGIT) & (prev != DOT)) | ((nxt != DIGIT) & (nxt != SIGN)))).any():
+            return None
+    skip = len(data[:start].translate(_E_AS_e, b"0123456789+-"))
+    skeleton = np.frombuffer(data.translate(_E_AS_e, b"0123456789+-"), dtype=np.uint8)[skip:]
+    a, b = skeleton[:-1], skeleton[1:]  # neighbours in the skeleton: blanks between fields are kept
+    if (((b == ord(".")) & ((a == ord(".")) | (a == ord("e")))) | ((a == ord("e")) & (b == ord("e")))).any():
+        return None
+    return skeleton
+
+
+def well_formed_numbers(data: bytes, start: int = 0) -> bool:
+    """Whether every blank-separated field of ``data[start:]`` is a number scipy reads whole (see number_skeleton)."""
+    return number_skeleton(data, start) is not None
+
+
+def _fields_per_line_are(data: bytes, start: int, width: int, lines: int) -> bool:
+    """Whether ``data[start:]`` holds ``lines`` non-blank lines of exactly ``width`` fields each (vectorised)."""
+    arr = np.frombuffer(data, dtype=np.uint8)[start:]
     printable = arr > 32
     if not printable.any():
         return lines == 0
