@@ -107,7 +107,7 @@ def _records(text: str, delimiter: str | None) -> Iterator[tuple[int, list[str]]
                 yield raw
 
     for fields in csv.reader(data_lines(), delimiter=delimiter, strict=True):
-        yield at[0], [f.strip() for f in fields]
+        yield at[0], [f.strip(" \t") for f in fields]  # not str.strip(): it would drop control characters
 
 
 def _is_number(token: str) -> bool:

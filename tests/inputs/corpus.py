@@ -222,6 +222,7 @@ def csv_cases() -> list[FileCase]:
         c("csv/parallel_beyond_2_53.csv", "0,1,-4503599627370496\n0,1,-4503599627370497\n", err(IE, "add up to 2**53 or more")),
         c("csv/nul_label.csv", "u,v,weight\n1,2,1\nx\x00,2,1\n", err(FFE, ":3: the label 'x\\x00' holds the control character U+0000")),
         c("csv/bell_in_quotes.csv", 'a,b\n"c\x07",b\n', err(FFE, ":2: the label 'c\\x07'")),
+        c("csv/nel_at_field_end.csv", "a\u0085,b\n", err(FFE, ":1: the label 'a\\x85' holds the control character U+0085")),
         c("csv/semicolons.csv", "1;2;3\n2;3;4\n", err(FFE, ":1: one field '1;2;3': CSV fields are separated by commas")),
         c("csv/tabs.csv", "1\t2\t3\n", err(FFE, "CSV fields are separated by commas")),
         c("csv/bom_header.csv", "\ufeffsource,target,weight\n1,2,0.5\n2,3,0.25\n", ok(0.75)),
