@@ -275,8 +275,8 @@ def build_result(state: _Solve, sigma: np.ndarray, notes: list[str], steps: list
     if state.prediction:
         info["prediction"] = state.prediction
     if state.fixing is not None:
-        info["fixed"] = {problem.labels[int(i)]: int(v) for i, v in zip(state.fixing.fixed,
-                                                                           form.decode(state.fixing.values))}
+        info["fixed"] = [[problem.labels[int(i)], int(v)] for i, v in zip(state.fixing.fixed,
+                                                                             form.decode(state.fixing.values))]
     if root.trace:
         info["trace"] = [(t, problem.to_objective(v)) for t, v in root.trace]
     report = form.constraint_report(values)

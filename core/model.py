@@ -93,7 +93,8 @@ class ProblemForm(ABC):
         up, down = self.domain
         for k, v in enumerate(values.tolist()):
             if isinstance(v, bool) or not isinstance(v, (int, float, np.integer, np.floating)) or v not in (up, down):
-                raise InputError(f"{what}: value {v!r} for {self.labels[k]!r} is not one of {up} and {down} "
+                low, high = sorted((up, down))
+                raise InputError(f"{what}: value {v!r} for {self.labels[k]!r} is not one of {low} and {high} "
                                  f"(the values of a {self.form} variable)")
         return np.where(np.asarray(values.tolist(), dtype=np.float64) == up, 1, -1).astype(np.int8)
 

@@ -55,7 +55,9 @@ def read_options(owner: str, model: type[BaseModel], given: Mapping[str, Any]) -
     if unknown and model is not AnyOptions:
         raise InputError(unknown_message(owner, unknown[0], names))
     try:
-        return dict(model(**{k: plain(v) for k, v in given.items()}).model_dump())
+        # dict(model), not model_dump(): values stay as given (a Result passed as a start is not turned into a dict)
+        checked = model(**{k: plain(v) for k, v in given.items()})
+        return {**dict(checked), **(checked.model_extra or {})}
     except ValidationError as exc:
         first = exc.errors()[0]
         option = ".".join(str(x) for x in first["loc"]) or "options"

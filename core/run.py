@@ -115,7 +115,11 @@ class Runner:
                 break
             if self.ctx.interrupted:
                 break
-        if part.sigma is None:  # every candidate declined or found no time: keep the start, else all spins up
+        if part.sigma is None:
+            mine = [s for s in self.steps if s.part == part.index and s.kind == "primary"]
+            if mine and all(s.outcome == "declined" for s in mine):
+                raise SolverUnsuitableError("; ".join(f"{s.name} declined: {s.note}" for s in mine))
+            # no time for any candidate: keep the start, else all spins up (the status says time-limit)
             part.sigma = np.ones(part.problem.n, dtype=np.int8) if initial is None else np.asarray(initial, np.int8)
             part.solver = part.solver or part.candidates[0].name
         if part.improver is not None and not part.exact and not self.ctx.interrupted:
@@ -144,7 +148,8 @@ class Runner:
             return None
         finally:
             entry.seconds = time.perf_counter() - t0
-        entry.outcome = "interrupted" if self.ctx.interrupted else ("stopped" if child.expired() else "ended")
+        stopped = child.expired() or sol.status == "time-limit"  # the solver may say the clock ended it
+        entry.outcome = "interrupted" if self.ctx.interrupted else ("stopped" if stopped else "ended")
         entry.value = self.problem.to_objective(part.problem.value(sol.sigma)) if len(part.idx) == self.problem.n \
             else None
         return sol

@@ -46,7 +46,8 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
         if ctx.should_stop():
             break
     assert ctx.best_sigma is not None
-    return Solution(sigma=ctx.best_sigma, info={"restarts": done})
+    clock = ctx.time_limit is not None and done < restarts  # the clock, not the count of starts, ended it
+    return Solution(sigma=ctx.best_sigma, status="time-limit" if clock else None, info={"restarts": done})
 
 
 def fit(problem: CanonicalProblem) -> float:

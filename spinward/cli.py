@@ -1,7 +1,8 @@
 """The ``spinward`` command line (argparse).  Heavy imports happen inside each command.
 
 Exit codes: 0 success, 2 bad input/file/option (one line on stderr, no traceback),
-130 interrupted before any state was found.
+130 interrupted before any state was found, 141 the reader of stdout went away (as a
+process ended by SIGPIPE; nothing is printed, e.g. ``spinward solve … | head -1``).
 """
 
 from __future__ import annotations
@@ -9,6 +10,7 @@ from __future__ import annotations
 import argparse
 import contextlib
 import json
+import os
 import sys
 import warnings
 from typing import Any, Callable, Iterator, Sequence
@@ -54,11 +56,14 @@ def _add_file_options(p: argparse.ArgumentParser) -> None:
 def cmd_solve(args: argparse.Namespace) -> int:
     import spinward
 
+    from .progress import solve_progress
+
     with warnings.catch_warnings():  # every warning is in the result, and the summary prints each once
         warnings.simplefilter("ignore")
         form = _read(args)
-        result = spinward.solve(form, method=args.method, time_limit=args.time_limit, seed=args.seed,
-                                **dict(args.option or []))
+        with solve_progress(args.time_limit):
+            result = spinward.solve(form, method=args.method, time_limit=args.time_limit, seed=args.seed,
+                                    **dict(args.option or []))
     print(result.summary())
     if args.output:
         result.write_json(args.output)
@@ -238,7 +243,12 @@ def main(argv: Sequence[str] | None = None) -> int:
     handler = getattr(args, "func", None) or COMMANDS[args.command][0]
     try:
         with _warnings_as_lines():
-            return handler(args)
+            code = handler(args)
+        sys.stdout.flush()  # a closed pipe shows here, not in the interpreter's last flush
+        return code
+    except BrokenPipeError:
+        _silence_stdout()
+        return 141
     except InternalError as exc:
         if args.debug:
             raise
@@ -254,6 +264,17 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         sys.stderr.write("spinward: interrupted before any state was found\n")
         return 130
+
+
+def _silence_stdout() -> None:
+    """After the reader of stdout went away: point stdout at the null device, so the
+    interpreter's final flush has nowhere to fail (no "Broken pipe" message)."""
+    try:
+        null = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(null, sys.stdout.fileno())
+        os.close(null)
+    except (OSError, ValueError):
+        pass
 
 
 if __name__ == "__main__":

@@ -175,7 +175,7 @@ def main() -> None:
     print("time limits:")
     rows = limit_rows(builders, solvers, args.limits)
     summary = summarise(rows)
-    print(f"\nworst overshoot (wall − limit) per solver; contract: wall ≤ limit + max(5% of it, 0.25 s)")
+    print("\nworst overshoot (wall − limit) per solver; contract: wall ≤ limit + max(5% of it, 0.25 s)")
     print(table(summary, ["solver", "runs", "worst_overshoot_s", "at", "allowed_s", "all_within"]))
     interrupts: list[dict] = []
     if not args.no_interrupts:

@@ -39,13 +39,13 @@ from spinward.core.options import SolverOptions
 
 from ..common.couplings import working_couplings
 from ..common.flips import csr_parts, local_search, random_spins
+from ..common.offers import OfferPace
 
 SCHEDULES = ("linear", "geometric")
 DEFAULT_SWEEPS = 1000
 RULES = {"metropolis": 0, "heat-bath": 1}
 DEFAULT_BETA_SPAN = (0.2, 8.0)
 CHUNK_SECONDS = 0.05          # target time between clock checks
-OFFER_SECONDS = 1.0           # hand the incumbent to the core at least this often
 FIT_SHARE = 0.9               # share of the time left that the next schedule may use
 PROBE_SWEEPS = 20             # length of the schedule that times a sweep
 UNBOUNDED = 10**7             # sweeps: the longest schedule (its β array takes 80 MB)
@@ -162,7 +162,7 @@ class Annealer:
 def anneal_once(annealer: Annealer, plan: Plan, ctx: SolveContext) -> tuple[bool, int]:
     """One full schedule in clock-checked chunks; returns (finished, sweeps done)."""
     betas, done, chunk = plan.betas, 0, 1
-    last_offer = time.perf_counter()
+    offer = OfferPace(annealer.problem, ctx)  # each improvement, after the chunk that found it
     while done < betas.size:
         t0 = time.perf_counter()
         annealer.sweep(betas[done:done + chunk], plan.rule)
@@ -172,9 +172,7 @@ def anneal_once(annealer: Annealer, plan: Plan, ctx: SolveContext) -> tuple[bool
         chunk = max(1, min(4 * chunk, int(chunk * CHUNK_SECONDS / max(spent, 1e-9))))
         if ctx.should_stop():
             return False, done
-        if time.perf_counter() - last_offer > OFFER_SECONDS:
-            ctx.offer(annealer.best_sigma, annealer.problem.value(annealer.best_sigma))
-            last_offer = time.perf_counter()
+        offer(annealer.best_sigma, annealer.best)
     return True, done
 
 
@@ -239,9 +237,10 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
                 break
             plan = plan.resized(length)
     assert ctx.best_sigma is not None
-    return Solution(sigma=ctx.best_sigma, info={"restarts": done, "sweeps": sweeps_run, "last_sweeps": plan.sweeps,
-                                                "schedule_finished": finished,
-                                                "beta_span": (float(plan.betas[0]), float(plan.betas[-1]))})
+    clock = ctx.time_limit is not None and (done < plan.restarts or not finished)  # the clock, not the work, ended it
+    return Solution(sigma=ctx.best_sigma, status="time-limit" if clock else None,
+                    info={"restarts": done, "sweeps": sweeps_run, "last_sweeps": plan.sweeps,
+                          "schedule_finished": finished, "beta_span": (float(plan.betas[0]), float(plan.betas[-1]))})
 
 
 def fit(problem: CanonicalProblem) -> float:

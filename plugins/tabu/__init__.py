@@ -56,9 +56,9 @@ from spinward.core.options import SolverOptions
 from ..annealing import coupling_scale
 from ..common.couplings import working_couplings
 from ..common.flips import local_search, random_spins
+from ..common.offers import OfferPace
 
 CHUNK_SECONDS = 0.05
-OFFER_SECONDS = 1.0
 MAX_CHUNK = 10**8
 KICK_GROWTH = 1.5
 ANNEAL_SHARE = 0.8  # of the time left, for the anneal that seeds a walk (dense K)
@@ -197,7 +197,8 @@ def walk_once(walk: Walk, opts: dict[str, Any], ctx: SolveContext) -> tuple[int,
     escapes a basin that plain tabu moves keep returning to; past n/2 the strength
     starts again from its base.
     """
-    done, kicks, chunk, last_offer = 0, 0, 1000, time.perf_counter()
+    done, kicks, chunk = 0, 0, 1000
+    offer = OfferPace(walk.problem, ctx)  # each new best, after the chunk that found it
     strength, best_at_kick = opts["kicks"], -math.inf
     while done < opts["moves"]:
         t0 = time.perf_counter()
@@ -217,9 +218,7 @@ def walk_once(walk: Walk, opts: dict[str, Any], ctx: SolveContext) -> tuple[int,
             kicks += 1
         if ctx.should_stop():
             return done, kicks, False
-        if time.perf_counter() - last_offer > OFFER_SECONDS:
-            ctx.offer(walk.best_sigma, walk.problem.value(walk.best_sigma))
-            last_offer = time.perf_counter()
+        offer(walk.best_sigma, float(walk.vals[walk.kern.BEST]))
     return done, kicks, True
 
 
@@ -380,9 +379,10 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
         if ctx.should_stop():
             break
     assert ctx.best_sigma is not None
-    return Solution(sigma=ctx.best_sigma, info={"restarts": runs, "moves": moves, "perturbations": kicks,
-                                                "ball_kicks": balls, "finished": finished, "tenure": opts["tenure"],
-                                                "start": mode})
+    clock = ctx.time_limit is not None and (runs < opts["restarts"] or not finished)  # the clock ended it
+    return Solution(sigma=ctx.best_sigma, status="time-limit" if clock else None,
+                    info={"restarts": runs, "moves": moves, "perturbations": kicks, "ball_kicks": balls,
+                          "finished": finished, "tenure": opts["tenure"], "start": mode})
 
 
 def fit(problem: Any) -> float:

@@ -85,7 +85,7 @@ def test_clean_environment_imports_every_module_from_the_wheel(clean_env):
     got = json.loads(out.strip().splitlines()[-1])
     assert got["file"].startswith(str(env_dir)), got["file"]
     expected = {"spinward.core.frontdoor", "spinward.adapters.files.matrix_market", "spinward.plugins.iamp.parisi",
-                "spinward.plugins.tabu._kernels", "spinward.bench.runner"}
+                "spinward.plugins.tabu._kernels", "spinward.bench.runner", "spinward.testing"}
     assert expected <= set(got["modules"])
 
 
