@@ -210,10 +210,10 @@ def option_calls() -> list[ApiCase]:
         a("solutions-zero", lambda: _with(solutions=0), err(IE, "option 'solutions' = 0 is invalid")),
         a("solutions-string", lambda: _with(solutions="3"), err(IE, "option 'solutions' = '3' is invalid")),
         a("initial-too-short", lambda: _with("tabu", initial=[1]), err(IE, "initial: expected 3 values")),
-        a("initial-bad-value", lambda: _with("tabu", initial=[2, 2, 2]), err(IE, "initial: value 2 for 0 is not one of 1 and 0")),
+        a("initial-bad-value", lambda: _with("tabu", initial=[2, 2, 2]), err(IE, "initial: value 2 for 0 is not one of 0 and 1")),
         a("initial-bad-labels", lambda: _with("tabu", initial={"x": 1}), err(IE, "initial: no value for label 0")),
         a("fix-unknown-label", lambda: _with(fix={"zz": 1}), err(IE, "fix: unknown label 'zz'")),
-        a("fix-bad-value", lambda: _with(fix={0: 5}), err(IE, "fix: value 5 for 0 is not one of 1 and 0")),
+        a("fix-bad-value", lambda: _with(fix={0: 5}), err(IE, "fix: value 5 for 0 is not one of 0 and 1")),
         a("solver-options-typo", lambda: _with(solver_options={"anneal": {"sweepz": 1}}), err(IE, "unknown option 'sweepz'")),
         a("candidates-unknown", lambda: _with(candidates=["nonesuch"]), err(UE, "unknown method 'nonesuch'")),
         # the minimum of Q3 is −1, at x = (1, 1, 0) and (0, 0, 1) (by hand over its 8 states)
