@@ -37,6 +37,23 @@ def _option_pair(text: str) -> tuple[str, Any]:
         return key, json.loads(raw)
     except json.JSONDecodeError:
         return key, raw
+    except RecursionError:
+        raise argparse.ArgumentTypeError(f"option {key!r}: the value nests too deeply") from None
+
+
+def _read(args: argparse.Namespace) -> Any:
+    import spinward
+
+    return spinward.read_problem(args.file, form=args.form, format=args.format, weight=args.weight)
+
+
+def _add_file_options(p: argparse.ArgumentParser) -> None:
+    from .adapters.files import FORMATS
+
+    p.add_argument("--format", choices=list(FORMATS), default=None,
+                   help="read the file in this format, whatever its extension")
+    p.add_argument("--weight", default=None, metavar="NAME",
+                   help="the edge attribute (GraphML) or CSV column holding the weights (default: weight)")
 
 
 def seconds_since_start() -> float:
@@ -69,7 +86,7 @@ def cmd_solve(args: argparse.Namespace) -> int:
     with warnings.catch_warnings():  # every warning is in the result, and the summary prints each once
         warnings.simplefilter("ignore")
         before_read = seconds_since_start() if started else 0.0
-        form = spinward.read_problem(args.file, form=args.form)
+        form = _read(args)
         limit = solve_limit(args.time_limit, before_read)
         with solve_progress(args.time_limit):
             result = spinward.solve(form, method=args.method, time_limit=limit, seed=args.seed,
@@ -121,7 +138,7 @@ def cmd_inspect(args: argparse.Namespace) -> int:
 
     from .explain import format_inspection, inspect_form
 
-    form = spinward.read_problem(args.file, form=args.form)
+    form = _read(args)
     registry = spinward.default_registry()
     profile, parts = inspect_form(form, registry, args.time_limit)
     print(format_inspection(form, profile, parts, registry, args.time_limit))
@@ -136,7 +153,7 @@ def cmd_bound(args: argparse.Namespace) -> int:
     import spinward
     from spinward.core.context import SolveContext
 
-    form = spinward.read_problem(args.file, form=args.form)
+    form = _read(args)
     problem = form.canonical()
     goal = "lower" if form.sense == "min" else "upper"
     print(f"{form.form} problem, n = {problem.n}: {goal} bounds on the optimum (the caller's objective)")
@@ -188,12 +205,13 @@ def build_parser() -> argparse.ArgumentParser:
     for name, (_, help_text) in COMMANDS.items():
         p = sub.add_parser(name, help=help_text, description=help_text)
         if name == "solve":
-            p.add_argument("file", help="problem file: .mtx .json .graphml .npy .npz or an edge list")
+            p.add_argument("file", help="problem file: .mtx .json .graphml .npy .npz .csv or an edge list")
             p.add_argument("--method", default="auto", help="solver name or 'auto' (see 'spinward solvers')")
             p.add_argument("--time-limit", type=float, default=None, help="wall-clock seconds")
             p.add_argument("--seed", type=int, default=None, help="random seed (recorded in the result)")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None,
                            help="how to read a bare matrix (.mtx/.npy/.npz); default qubo")
+            _add_file_options(p)
             p.add_argument("--output", "-o", default=None, help="write the result as JSON here")
             p.add_argument("--csv", default=None, help="write the assignment as CSV (label,value) here")
             p.add_argument("--option", action="append", type=_option_pair, metavar="KEY=VALUE",
@@ -203,10 +221,12 @@ def build_parser() -> argparse.ArgumentParser:
         if name == "bound":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
+            _add_file_options(p)
             p.add_argument("--time-limit", type=float, default=None, help="seconds per bound (default: no limit)")
         if name == "inspect":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
+            _add_file_options(p)
             p.add_argument("--time-limit", type=float, default=None, help="show the plan for this time limit")
         if name == "solvers":
             p.add_argument("--options", metavar="NAME", default=None,
