@@ -54,7 +54,7 @@ def format_inspection(form: Any, profile: Profile, parts: list[Part], registry: 
 
 def _profile_lines(form: Any, p: Profile) -> list[str]:
     return [f"problem:     {form.form}, n = {p.n}, {p.couplings} couplings (density {100 * p.density:.3g}%), "
-            f"{p.components} component(s), {p.kind} storage",
+            f"{'an uncounted number of' if p.components is None else p.components} component(s), {p.kind} storage",
             f"couplings:   mean {p.mean:.4g}, std {p.std:.4g} over all pairs; non-zero mean {p.nonzero_mean:.4g}, "
             f"excess kurtosis {p.excess_kurtosis:.3g}, max |K| {p.max_abs:.4g}"
             + ("" if p.stats_exact else " (from a sample of rows)")
@@ -111,5 +111,5 @@ def _advice_lines(form: Any, parts: list[Part]) -> list[str]:
     return lines
 
 
-def _yn(flag: bool) -> str:
-    return "yes" if flag else "no"
+def _yn(flag: bool | None) -> str:
+    return "not checked" if flag is None else ("yes" if flag else "no")
