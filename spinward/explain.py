@@ -8,6 +8,7 @@ from typing import Any
 import numpy as np
 
 from .core.context import SolveContext
+from .core.frontdoor import caller_prediction
 from .core.plan import IMPROVER_SHARE, PROFILE_SHARE, Part, reserve_seconds
 from .core.profile import Profile, profile_of
 from .core.registry import Registry
@@ -100,10 +101,11 @@ def _advice_lines(form: Any, parts: list[Part]) -> list[str]:
     if spec.predict is not None:
         found = spec.predict(part.problem, prof)
         if found:
-            p = part.problem
-            lines.append(f"prediction:  optimum ≈ {p.to_objective(found['optimum']):.6g} (finite-size estimate "
-                         f"{p.to_objective(found.get('finite_size_estimate', found['optimum'])):.6g}; "
-                         f"{found.get('source', '')})")
+            shown = caller_prediction(part.problem, found)
+            extra = ", ".join(f"{k.replace('_', ' ')} {v:.6g}" for k, v in shown.items()
+                              if k in found.get("canonical", {}) and k != "optimum")
+            lines.append(f"prediction:  optimum ≈ {shown['optimum']:.6g}" + (f" ({extra})" if extra else "")
+                         + (f"; {found['source']}" if found.get("source") else ""))
     if spec.advise is not None:
         for advice in spec.advise(part.problem, prof):
             lines.append("note:        " + advice.worded(form.phrase(advice.topic, dict(advice.values))
