@@ -33,8 +33,6 @@ ASSUMPTION = "dense, mean-zero, i.i.d.-like couplings"
 
 #: finite-size correction e_n ≈ P* − A·n^{−2/3}; A from memory (Boettcher 2005), an estimate
 FINITE_SIZE_A = 0.7
-FINITE_SIZE_SOURCE = ("e_n ≈ P* − A·n^(−2/3) with A ≈ 0.7 (from memory; Boettcher, Eur. Phys. J. B 46, 501 "
-                      "(2005), arXiv:cond-mat/0407130): an estimate, not a bound")
 #: below this size the n → ∞ prediction is not reported
 MIN_PREDICTION_N = 100
 
