@@ -59,6 +59,12 @@ def _pass_cost(problem: CanonicalProblem) -> float:
     return PASS_SECONDS * (entries + problem.n)
 
 
+def _estimate_cost(lifted: CanonicalProblem, passes: int = 0) -> float:
+    """Seconds of an iterative estimate with ``passes`` products with K (default the least worth starting)."""
+    per = _pass_cost(lifted) + STEP_SECONDS + STEP_SECONDS_PER_ROW * lifted.n
+    return (passes or MIN_PASSES) * per
+
+
 def _passes(seconds: float, lifted: CanonicalProblem) -> int:
     """How many products with K fit into ``seconds`` (at most ``ITERATIONS`` Lanczos restarts' worth).
 
@@ -84,14 +90,13 @@ def spectral_cost(problem: CanonicalProblem) -> float:
     lifted_n = problem.n + (1 if problem.has_fields else 0)
     if problem.kind == "dense" and lifted_n <= eigen.EIGH_LIMIT:
         return _eigh_cost(lifted_n) + _cholesky_cost(lifted_n)
-    estimate = MIN_PASSES * (_pass_cost(problem) + STEP_SECONDS + STEP_SECONDS_PER_ROW * lifted_n)
-    return estimate + (_cholesky_cost(lifted_n) if lifted_n <= eigen.SMALL_SPARSE else 0.0)
+    return _estimate_cost(lift(problem)) + (_cholesky_cost(lifted_n) if lifted_n <= eigen.SMALL_SPARSE else 0.0)
 
 
 def dual_cost(problem: CanonicalProblem) -> float:
     """Predicted seconds of the SDP dual bound: the mixing method (unless a factor is cached) and its proof."""
     N = problem.n + (1 if problem.has_fields else 0)
-    proof = _cholesky_cost(N) if N <= DENSE_LIMIT else MIN_PASSES * _pass_cost(problem)
+    proof = _cholesky_cost(N) if N <= DENSE_LIMIT else _estimate_cost(lift(problem))
     solve = 0.0 if cached_factor(problem) is not None else MIN_SWEEPS * _sweep_cost(problem)
     return solve + proof
 
@@ -261,7 +266,7 @@ def sdp_dual_bound(problem: CanonicalProblem, ctx: SolveContext) -> Bound | None
 def _dual(problem: CanonicalProblem, N: int, ctx: SolveContext) -> Bound | None:
     factor = cached_factor(problem)
     dense_limit = int(ctx.option("dense_limit", DENSE_LIMIT))
-    proof = _cholesky_cost(N) if N <= dense_limit else MIN_PASSES * _pass_cost(lift(problem))
+    proof = _cholesky_cost(N) if N <= dense_limit else _estimate_cost(lift(problem))
     sweep = _sweep_cost(lift(problem))
     if not _fits(ctx, proof + (0.0 if factor is not None else MIN_SWEEPS * sweep)):
         return None  # neither a factor and its proof, nor a few sweeps and a proof, fit the allowance
