@@ -23,7 +23,7 @@ DEFAULT_RESTARTS = 16
 class LocalOptions(SolverOptions):
     """Options of multi-start local search."""
 
-    restarts: int | None = Field(None, ge=1, description="random starts (default 16; with a time limit, until "
+    restarts: int | None = Field(None, ge=1, le=10**9, description="random starts (default 16; with a time limit, until "
                                                           "the clock stops)")
     initial: Any = Field(None, description="canonical ±1 state for the first climb")
 

@@ -54,9 +54,9 @@ GROWTH = 4                    # each schedule is this many times longer than the
 class AnnealOptions(SolverOptions):
     """Options of simulated annealing (see the module docstring)."""
 
-    sweeps: int | None = Field(None, ge=1, description="sweeps per schedule (default 1000; with a time limit, "
+    sweeps: int | None = Field(None, ge=1, le=UNBOUNDED, description="sweeps per schedule (default 1000; with a time limit, "
                                                         "schedules grow ×4 while they pay)")
-    restarts: int | None = Field(None, ge=1, description="schedules from fresh random spins (default 1; with a "
+    restarts: int | None = Field(None, ge=1, le=10**9, description="schedules from fresh random spins (default 1; with a "
                                                           "time limit, until the clock stops)")
     schedule: Literal["linear", "geometric"] = Field("linear", description="how β moves between its ends")
     beta_span: tuple[float, float] | None = Field(None, description="(low, high) inverse temperatures relative to "

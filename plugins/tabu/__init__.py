@@ -78,16 +78,16 @@ class TabuOptions(SolverOptions):
 
     initial: Any = Field(None, description="canonical ±1 start state (the front door fills it from solve's "
                                            "initial=, or from the primary's state when tabu improves it)")
-    moves: int | None = Field(None, ge=1, description="moves per walk (default 200n + 10⁵ sparse, 50n + 10⁴ dense; "
+    moves: int | None = Field(None, ge=1, le=10**15, description="moves per walk (default 200n + 10⁵ sparse, 50n + 10⁴ dense; "
                                                       "with a time limit, until the clock stops)")
-    restarts: int | None = Field(None, ge=1, description="walks from fresh starts (default 1)")
-    tenure: int | None = Field(None, ge=1, description="moves a flipped spin stays tabu (default max(10, n/10) "
+    restarts: int | None = Field(None, ge=1, le=10**9, description="walks from fresh starts (default 1)")
+    tenure: int | None = Field(None, ge=1, le=10**9, description="moves a flipped spin stays tabu (default max(10, n/10) "
                                                        "sparse, max(10, n/30) dense)")
-    stall: int | None = Field(None, ge=1, description="moves without a new best before a kick (default max(2000, 2n))")
+    stall: int | None = Field(None, ge=1, le=10**15, description="moves without a new best before a kick (default max(2000, 2n))")
     perturb: float = Field(0.02, gt=0.0, le=1.0, description="share of spins a kick flips")
     precision: Literal["auto", "float32", "float64"] = Field("auto", description="working copy of the couplings")
     start: Literal["auto", "anneal", "ball-anneal", "random"] = Field("auto", description="where a walk starts")
-    ball_kicks: int | None = Field(None, ge=0, description="ball kicks before the walk (sparse couplings; 0: none)")
+    ball_kicks: int | None = Field(None, ge=0, le=10**15, description="ball kicks before the walk (sparse couplings; 0: none)")
 
 
 OPTIONS: dict[str, Any] = {name: field.default for name, field in TabuOptions.model_fields.items()}
