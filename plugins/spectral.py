@@ -84,6 +84,12 @@ def fit(problem: CanonicalProblem) -> float:
     return 0.5
 
 
+def cost(problem: CanonicalProblem) -> float:
+    """Predicted seconds: Lanczos (a few hundred products with K) and one clean-up."""
+    from spinward.core.plan import stored_entries
+
+    return 300 * PASS_SECONDS * (stored_entries(problem) + problem.n)
+
 SPEC = SolverSpec(
     name="spectral",
     run=run,
@@ -91,4 +97,5 @@ SPEC = SolverSpec(
     summary="sign of the top eigenvector, then single-flip clean-up",
     options={},
     fit=fit,
+    cost=cost,
 )

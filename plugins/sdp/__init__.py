@@ -63,6 +63,13 @@ def fit(problem: Any) -> float:
     return 1.5 if n <= 3000 else 0.5
 
 
+def cost(problem: CanonicalProblem) -> float:
+    """Predicted seconds without a time limit: a few hundred mixing sweeps, then the rounding."""
+    from .certificates import _sweep_cost
+    from .mixing import lift
+
+    return 300 * _sweep_cost(lift(problem))
+
 SPEC = SolverSpec(
     name="sdp",
     run=run,
@@ -70,6 +77,7 @@ SPEC = SolverSpec(
     summary="SDP relaxation by Burer–Monteiro (mixing method), Goemans–Williamson rounding + single flips",
     options=SdpOptions,
     fit=fit,
+    cost=cost,
 )
 
 
