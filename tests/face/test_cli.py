@@ -147,3 +147,16 @@ def test_each_warning_is_printed_once(tmp_path, capsys):
     captured = capsys.readouterr()
     text = captured.out + captured.err
     assert text.count("self-loop") == 1, text
+
+
+def test_inspect_shows_the_profile_and_the_plan_on_a_dense_file(tmp_path, capsys):
+    """A dense n = 70 file once showed "1 couplings"; numpy counts them here."""
+    import numpy as np
+
+    J = np.triu(np.random.default_rng(5).normal(size=(70, 70)), 1)
+    np.save(tmp_path / "j.npy", J)
+    assert main(["inspect", str(tmp_path / "j.npy"), "--form", "ising", "--time-limit", "2"]) == 0
+    out = capsys.readouterr().out
+    assert f"{np.count_nonzero(J)} couplings" in out
+    assert "plan:        (time limit 2 s)" in out and "bounds:" in out
+    assert "enumerate    would not: n = 70 exceeds its limit of 26 variables" in out
