@@ -74,7 +74,7 @@ class MaxCut(CachedForm):
     def _coefficients(self) -> tuple[Any, ...]:
         return (self._w,)
 
-    def evaluate(self, values: np.ndarray) -> float:
+    def _objective(self, values: np.ndarray) -> float:
         """The cut weight, summed over the caller's own edges."""
         side = dict(zip(self._labels, np.asarray(values).tolist()))
         total = 0.0

@@ -77,7 +77,7 @@ class QUBO(CachedForm):
     def _coefficients(self) -> tuple[Any, ...]:
         return self.Q, self.offset
 
-    def evaluate(self, values: np.ndarray) -> float:
+    def _objective(self, values: np.ndarray) -> float:
         """xᵀQx + offset from the caller's own Q (dict terms summed directly)."""
         x = np.asarray(values, dtype=np.float64)
         if self._terms is not None:
