@@ -32,10 +32,29 @@ def _option_pair(text: str) -> tuple[str, Any]:
         return key, raw
 
 
+def _read(args: argparse.Namespace) -> Any:
+    """The problem file as a form; ``--energy-sign`` reads an Ising problem's J and h in that convention."""
+    import spinward
+    from spinward.core.errors import InputError
+
+    form = spinward.read_problem(args.file, form=args.form)
+    sign = getattr(args, "energy_sign", None)
+    if sign is None:
+        return form
+    if form.form != "ising":
+        raise InputError(f"--energy-sign applies to Ising problems; {args.file} holds a {form.form} problem")
+    if form.energy_sign == sign:
+        return form
+    if form.energy_sign_stated:
+        raise InputError(f"{args.file} states energy_sign {form.energy_sign!r} itself; drop --energy-sign {sign} "
+                         f"or change the document")
+    return form.with_energy_sign(sign)
+
+
 def cmd_solve(args: argparse.Namespace) -> int:
     import spinward
 
-    form = spinward.read_problem(args.file, form=args.form)
+    form = _read(args)
     result = spinward.solve(form, method=args.method, time_limit=args.time_limit, seed=args.seed,
                             **dict(args.option or []))
     print(result.summary())
@@ -71,7 +90,7 @@ def cmd_inspect(args: argparse.Namespace) -> int:
 
     from .explain import format_choice, inspect_form
 
-    form = spinward.read_problem(args.file, form=args.form)
+    form = _read(args)
     print(format_choice(form, inspect_form(form, spinward.default_registry())))
     return 0
 
@@ -84,7 +103,7 @@ def cmd_bound(args: argparse.Namespace) -> int:
     import spinward
     from spinward.core.context import SolveContext
 
-    form = spinward.read_problem(args.file, form=args.form)
+    form = _read(args)
     problem = form.canonical()
     goal = "lower" if form.sense == "min" else "upper"
     print(f"{form.form} problem, n = {problem.n}: {goal} bounds on the optimum (the caller's objective)")
@@ -113,6 +132,9 @@ def cmd_parisi(args: argparse.Namespace) -> int:
     return 0
 
 
+ENERGY_SIGN_HELP = ("how to read an Ising problem's J and h: physics (E = −ΣJss − Σhs, the default) or hardware "
+                    "(E = +ΣJss + Σhs)")
+
 COMMANDS: dict[str, tuple[Callable[[argparse.Namespace], int], str]] = {
     "solve": (cmd_solve, "solve a problem file and print a summary"),
     "demo": (cmd_demo, "solve a built-in example (a two-band radio frequency plan)"),
@@ -136,6 +158,7 @@ def build_parser() -> argparse.ArgumentParser:
             p.add_argument("--seed", type=int, default=None, help="random seed (recorded in the result)")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None,
                            help="how to read a bare matrix (.mtx/.npy/.npz); default qubo")
+            p.add_argument("--energy-sign", choices=("physics", "hardware"), default=None, help=ENERGY_SIGN_HELP)
             p.add_argument("--output", "-o", default=None, help="write the result as JSON here")
             p.add_argument("--csv", default=None, help="write the assignment as CSV (label,value) here")
             p.add_argument("--option", action="append", type=_option_pair, metavar="KEY=VALUE",
@@ -145,10 +168,12 @@ def build_parser() -> argparse.ArgumentParser:
         if name == "bound":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
+            p.add_argument("--energy-sign", choices=("physics", "hardware"), default=None, help=ENERGY_SIGN_HELP)
             p.add_argument("--time-limit", type=float, default=None, help="seconds per bound (default: no limit)")
         if name == "inspect":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
+            p.add_argument("--energy-sign", choices=("physics", "hardware"), default=None, help=ENERGY_SIGN_HELP)
         if name == "demo":
             p.add_argument("--seed", type=int, default=0)
     from .bench.cli import add_bench_parser, add_report_parser
