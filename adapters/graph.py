@@ -74,6 +74,13 @@ class MaxCut(CachedForm):
     def _coefficients(self) -> tuple[Any, ...]:
         return (self._w,)
 
+    def phrase(self, topic: str, values: dict[str, float]) -> str | None:
+        if topic != "mean-part":
+            return None
+        weight = 2 * abs(values["mean"] * values["scale"])  # canonical K = −w/2
+        return (f"the graph is dense and its edge weights average {weight:.4g} per pair of nodes: this rank-one "
+                f"part favours balanced cuts (two sides of equal size)")
+
     def _objective(self, values: np.ndarray) -> float:
         """The cut weight, summed over the caller's own edges."""
         side = dict(zip(self._labels, np.asarray(values).tolist()))

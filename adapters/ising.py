@@ -143,6 +143,13 @@ class Ising(CachedForm):
     def _coefficients(self) -> tuple[Any, ...]:
         return self.pairs, self.h, self.offset
 
+    def phrase(self, topic: str, values: dict[str, float]) -> str | None:
+        if topic != "mean-part":
+            return None
+        mean = -abs(values["mean"] * values["scale"]) * ENERGY_SIGNS[self.energy_sign]  # canonical K = ±J
+        return (f"the couplings have an antiferromagnetic mean ({mean:.4g} per pair): this rank-one part favours "
+                f"states with zero magnetisation")
+
     def _objective(self, values: np.ndarray) -> float:
         """E(s) from the caller's terms (dicts summed directly, matrices as pair sums), in its energy sign."""
         s = np.asarray(values, dtype=np.float64)

@@ -168,6 +168,25 @@ class Modelling(ProblemForm):
                 "objective_after": self.evaluate(self.decode(full)), **info}
         return full, info
 
+    def state_from(self, state: Any, what: str = "initial") -> np.ndarray:
+        """:meth:`ProblemForm.state_from` in the caller's own variables: slack variables (if any) need no
+        value; they are set to match the state (a dict or array may still include them)."""
+        slack = sum(c.slack.size for c in self._constraints)
+        if not slack:
+            return super().state_from(state, what)
+        nb = len(self._base_labels())
+        if hasattr(state, "assignment") and hasattr(state, "array"):
+            state = state.assignment
+        if isinstance(state, Mapping):
+            state = {label: state[label] for label in self._base_labels() if label in state} \
+                if len(state) in (nb, nb + slack) else state
+        elif not isinstance(state, (str, bytes)) and np.ndim(state) == 1 and len(state) == nb + slack:
+            state = list(state)[:nb]
+        base_spins = _BaseView(self).state_from(state, what)
+        x = (1 + self._orientation() * base_spins.astype(np.float64)) / 2
+        return np.concatenate([base_spins, *[2 * c.best_slack(x).astype(np.int8) - 1
+                                             for c in self._constraints]]).astype(np.int8)
+
     def resolution(self) -> float | None:
         base = self.base_resolution()
         if not self._constraints or base is None:
@@ -237,3 +256,17 @@ class Modelling(ProblemForm):
             start += c.slack.size
         resolve_weights(self._constraints, self.base_canonical(), self.base_resolution())
         self._changed()
+
+
+class _BaseView(ProblemForm):
+    """The form's base variables only, to read a caller's state without slack variables."""
+
+    def __init__(self, form: Modelling) -> None:
+        self.form, self.sense, self.domain = form.form, form.sense, form.domain  # type: ignore[misc]
+        self._base = form.base_canonical()
+
+    def canonical(self) -> CanonicalProblem:
+        return self._base
+
+    def evaluate(self, values: np.ndarray) -> float:  # pragma: no cover - never called
+        raise NotImplementedError

@@ -1,15 +1,19 @@
 """The ``spinward`` command line (argparse).  Heavy imports happen inside each command.
 
 Exit codes: 0 success, 2 bad input/file/option (one line on stderr, no traceback),
-130 interrupted before any state was found.
+130 interrupted before any state was found, 141 the reader of stdout went away (as a
+process ended by SIGPIPE; nothing is printed, e.g. ``spinward solve … | head -1``).
 """
 
 from __future__ import annotations
 
 import argparse
+import contextlib
 import json
+import os
 import sys
-from typing import Any, Callable, Sequence
+import warnings
+from typing import Any, Callable, Iterator, Sequence
 
 from . import __version__
 
@@ -54,9 +58,14 @@ def _read(args: argparse.Namespace) -> Any:
 def cmd_solve(args: argparse.Namespace) -> int:
     import spinward
 
-    form = _read(args)
-    result = spinward.solve(form, method=args.method, time_limit=args.time_limit, seed=args.seed,
-                            **dict(args.option or []))
+    from .progress import solve_progress
+
+    with warnings.catch_warnings():  # every warning is in the result, and the summary prints each once
+        warnings.simplefilter("ignore")
+        form = _read(args)
+        with solve_progress(args.time_limit):
+            result = spinward.solve(form, method=args.method, time_limit=args.time_limit, seed=args.seed,
+                                    **dict(args.option or []))
     print(result.summary())
     if args.output:
         result.write_json(args.output)
@@ -76,22 +85,38 @@ def cmd_demo(args: argparse.Namespace) -> int:
 
 def cmd_solvers(args: argparse.Namespace) -> int:
     from .api import default_registry
+    from .core.options import describe
 
-    for name, spec in default_registry().solvers().items():
+    registry = default_registry()
+    if args.options:
+        spec = registry.get(args.options)
+        rows = describe(spec.options_model)
+        print(f"{spec.name}: {spec.summary}")
+        if not rows:
+            print("  (no options)")
+        for name, default, meaning in rows:
+            print(f"  {name:16s} default {default!r:12s} {meaning}")
+        return 0
+    for name, spec in registry.solvers().items():
         caps = spec.capabilities
         kind = "exact" if caps.exact else "heuristic"
         limit = f", n ≤ {caps.max_n}" if caps.max_n else ""
         print(f"{name:12s} {kind}{limit}: {spec.summary}")
+        names = ", ".join(spec.options) or "none"
+        print(f"{'':12s} options: {names}")
+    print("\n'spinward solvers --options NAME' lists a solver's options with their defaults and meaning.")
     return 0
 
 
 def cmd_inspect(args: argparse.Namespace) -> int:
     import spinward
 
-    from .explain import format_choice, inspect_form
+    from .explain import format_inspection, inspect_form
 
     form = _read(args)
-    print(format_choice(form, inspect_form(form, spinward.default_registry())))
+    registry = spinward.default_registry()
+    profile, parts = inspect_form(form, registry, args.time_limit)
+    print(format_inspection(form, profile, parts, registry, args.time_limit))
     return 0
 
 
@@ -107,12 +132,17 @@ def cmd_bound(args: argparse.Namespace) -> int:
     problem = form.canonical()
     goal = "lower" if form.sense == "min" else "upper"
     print(f"{form.form} problem, n = {problem.n}: {goal} bounds on the optimum (the caller's objective)")
+    if problem.n == 0:
+        print(f"  no variables: the optimum is the offset, {form.evaluate(np.zeros(0, dtype=np.int8)):.10g}")
+        return 0
     for provider in spinward.default_registry().bounds():
         verdict = provider.applies(problem)
         if verdict is not True:
             print(f"  {provider.name:10s} not applicable: {verdict}")
             continue
-        ctx = SolveContext(rng=np.random.default_rng(0), time_limit=args.time_limit)
+        root = SolveContext(rng=np.random.default_rng(0), time_limit=args.time_limit)
+        budget = args.time_limit if args.time_limit is not None else float("inf")
+        ctx = root.child(options={"budget": budget})
         t0 = time.perf_counter()
         b = provider.compute(problem, ctx)
         seconds = time.perf_counter() - t0
@@ -148,6 +178,7 @@ COMMANDS: dict[str, tuple[Callable[[argparse.Namespace], int], str]] = {
 def build_parser() -> argparse.ArgumentParser:
     parser = _Parser(prog="spinward", description="Solve, certify and benchmark QUBO, Ising and MaxCut problems.")
     parser.add_argument("--version", action="version", version=f"spinward {__version__}")
+    parser.add_argument("--debug", action="store_true", help="show the traceback of an internal error")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
     for name, (_, help_text) in COMMANDS.items():
         p = sub.add_parser(name, help=help_text, description=help_text)
@@ -174,6 +205,10 @@ def build_parser() -> argparse.ArgumentParser:
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
             p.add_argument("--energy-sign", choices=("physics", "hardware"), default=None, help=ENERGY_SIGN_HELP)
+            p.add_argument("--time-limit", type=float, default=None, help="show the plan for this time limit")
+        if name == "solvers":
+            p.add_argument("--options", metavar="NAME", default=None,
+                           help="list one solver's options with their defaults and meaning")
         if name == "demo":
             p.add_argument("--seed", type=int, default=0)
     from .bench.cli import add_bench_parser, add_report_parser
@@ -183,17 +218,48 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+@contextlib.contextmanager
+def _warnings_as_lines() -> Iterator[None]:
+    """Each warning once, as one line on stderr (no Python source line under it)."""
+    seen: set[str] = set()
+
+    def show(message: Any, category: Any, filename: str, lineno: int, file: Any = None, line: Any = None) -> None:
+        text = str(message)
+        if text not in seen:
+            seen.add(text)
+            sys.stderr.write(f"spinward: warning: {text}\n")
+
+    previous = warnings.showwarning
+    warnings.showwarning = show
+    try:
+        yield
+    finally:
+        warnings.showwarning = previous
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     if not args.command:
         parser.print_help()
         return 2
-    from .core.errors import SpinwardError
+    from .core.errors import InternalError, SpinwardError
 
     handler = getattr(args, "func", None) or COMMANDS[args.command][0]
     try:
-        return handler(args)
+        with _warnings_as_lines():
+            code = handler(args)
+        sys.stdout.flush()  # a closed pipe shows here, not in the interpreter's last flush
+        return code
+    except BrokenPipeError:
+        _silence_stdout()
+        return 141
+    except InternalError as exc:
+        if args.debug:
+            raise
+        sys.stderr.write(f"spinward: internal error: {exc}. This is a bug in spinward or a plugin, not in your "
+                         f"input: please report it with the command you ran (rerun with --debug for the traceback)\n")
+        return 1
     except SpinwardError as exc:
         sys.stderr.write(f"spinward: error: {exc}\n")
         return 2
@@ -203,6 +269,17 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         sys.stderr.write("spinward: interrupted before any state was found\n")
         return 130
+
+
+def _silence_stdout() -> None:
+    """After the reader of stdout went away: point stdout at the null device, so the
+    interpreter's final flush has nowhere to fail (no "Broken pipe" message)."""
+    try:
+        null = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(null, sys.stdout.fileno())
+        os.close(null)
+    except (OSError, ValueError):
+        pass
 
 
 if __name__ == "__main__":

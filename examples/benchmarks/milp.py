@@ -33,7 +33,7 @@ import numpy as np
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 import spinward  # noqa: E402
-from spinward.core.dispatch import choose  # noqa: E402
+from spinward.core.dispatch import rank  # noqa: E402
 from spinward.core.profile import profile_of  # noqa: E402
 from spinward.plugins.milp import FIT_CYCLE_RANK, FIT_CYCLE_RANK_CONTINUOUS, cycle_rank  # noqa: E402
 
@@ -60,7 +60,7 @@ def instance(degree: int, weights: str, n: int, seed: int) -> Any:
 def measure(form: Any, limit: float) -> dict[str, Any]:
     problem = form.canonical()
     prof = profile_of(problem)
-    auto = choose(problem, spinward.default_registry()).spec.name
+    auto = rank(problem, prof, spinward.default_registry(), None).primary.name
     t0 = time.perf_counter()
     r = spinward.solve(form, method="milp", time_limit=limit, seed=0, bound=False)
     seconds = time.perf_counter() - t0

@@ -26,15 +26,17 @@ from __future__ import annotations
 
 import math
 import time
+from dataclasses import replace
 from typing import Any
 
 import numpy as np
 
-from spinward.core.registry import MEAN_FIELD_ASSUMPTION
 from spinward.core import CanonicalProblem, Capabilities, InputError, Solution, SolveContext, SolverSpec, hookimpl
+from spinward.core.statistics import CouplingStats
 
 from . import diagnostics as diag
 from .message_passing import Matvec, iamp, normalised, raw_matvec, with_ghost
+from .prediction import ASSUMPTION, MIN_PREDICTION_N, advise, fit, fluctuation_e, predict, prediction
 
 OPTIONS: dict[str, Any] = {
     "solutions": "auto",     # independent IAMP runs sharing one Parisi solution; the best is returned
@@ -50,15 +52,9 @@ OPTIONS: dict[str, Any] = {
 }
 #: polish temperatures in units of A (T_c = 1 for SK): β runs linearly between these
 POLISH_BETAS = (1.5, 15.0)
-#: finite-size correction e_n ≈ P* − A·n^{−2/3}; A from memory (Boettcher 2005), an estimate
-FINITE_SIZE_A = 0.7
-FINITE_SIZE_SOURCE = ("e_n ≈ P* − A·n^(−2/3) with A ≈ 0.7 (from memory; Boettcher, Eur. Phys. J. B 46, 501 "
-                      "(2005), arXiv:cond-mat/0407130): an estimate, not a bound")
 #: "auto" runs: as many as cost one run at this size (a run costs ∝ n²), at most AUTO_MAX_RUNS
 AUTO_REFERENCE_N = 2000
 AUTO_MAX_RUNS = 4
-#: below this size the n → ∞ prediction is not reported
-MIN_PREDICTION_N = 100
 
 
 def _int_option(ctx: SolveContext, name: str, low: int, high: int) -> int:
@@ -107,51 +103,35 @@ def working_precision(problem: CanonicalProblem, ctx: SolveContext) -> tuple[tup
     return working_couplings(problem, precision, "iamp"), dtype
 
 
-def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext) -> diag.CouplingStats:
-    """Moments of K's off-diagonal entries; with fields, of the ghost-augmented matrix."""
-    n = problem.n
-    if problem.kind == "dense":
-        stats = diag.dense_stats(problem.K, n)
-    elif problem.kind == "sparse":
-        stats = diag.sparse_stats(problem.K, n)
-    else:
+def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext) -> tuple[CouplingStats, list[str]]:
+    """Moments of K's off-diagonal entries (the core's, exact); with fields, of the ghost-augmented matrix."""
+    notes: list[str] = []
+    if problem.kind == "operator":
         std = ctx.option("coupling_std", None)
-        stats = diag.operator_stats(raw, n, ctx.rng, _int_option(ctx, "probes", 1, 1000),
-                                    None if std is None else float(std))
+        stats, notes = diag.operator_stats(raw, problem.n, ctx.rng, _int_option(ctx, "probes", 1, 1000),
+                                           None if std is None else float(std))
+    else:
+        stats = diag.exact_stats(problem)
     if problem.has_fields:
         stats = _with_ghost_stats(stats, problem.b)
-    return stats
+    return stats, notes
 
 
-def _with_ghost_stats(stats: diag.CouplingStats, b: np.ndarray) -> diag.CouplingStats:
+def _with_ghost_stats(stats: CouplingStats, b: np.ndarray) -> CouplingStats:
     n = stats.n
     pairs, pairs2 = n * (n - 1), (n + 1) * n
     total = stats.mean * pairs + 2 * float(b.sum())
     squares = (stats.std**2 + stats.mean**2) * pairs + 2 * float(b @ b)
     mean = total / pairs2
     std = math.sqrt(max(squares / pairs2 - mean * mean, 0.0))
-    return diag.CouplingStats(n + 1, mean, std, stats.density, stats.excess_kurtosis, stats.max_abs_sigmas,
-                              stats.exact, list(stats.notes))
+    return replace(stats, n=n + 1, mean=mean, std=std, couplings=stats.couplings + int(np.count_nonzero(b)))
 
 
 def _sign(v: np.ndarray) -> np.ndarray:
     return np.where(v >= 0, 1, -1).astype(np.int8)
 
 
-def _mean_part(mean: float, s: np.ndarray | int, n: int) -> float:
-    """½m((Σσ)² − n): the rank-one mean's share of ½σᵀKσ (s is σ, or Σσ for a balanced state)."""
-    total = float(np.sum(s, dtype=np.int64)) if isinstance(s, np.ndarray) else float(s)
-    return 0.5 * mean * (total * total - n)
-
-
-def _fluctuation_e(problem: CanonicalProblem, sigma: np.ndarray, value: float, stats: diag.CouplingStats) -> float:
-    """e = (C − k₀ − bᵀσ − mean part) / (s·n^{3/2}): the energy per spin of docs/conventions.md."""
-    n = problem.n
-    rest = value - problem.k0 - float(problem.b @ sigma) - _mean_part(stats.mean, sigma, n)
-    return rest / (stats.std * n**1.5) if stats.std > 0 else float("nan")
-
-
-def polish(problem: CanonicalProblem, couplings: tuple[Any, ...], sigma: np.ndarray, stats: diag.CouplingStats,
+def polish(problem: CanonicalProblem, couplings: tuple[Any, ...], sigma: np.ndarray, stats: CouplingStats,
            sweeps: int, seed: int) -> tuple[np.ndarray, float]:
     """Low-temperature single-flip Metropolis from ``sigma`` (β linear from 1.5 to 15 in units of A), then greedy.
 
@@ -175,7 +155,7 @@ def polish(problem: CanonicalProblem, couplings: tuple[Any, ...], sigma: np.ndar
 
 
 def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx: SolveContext,
-             project: int, stats: diag.CouplingStats, couplings: tuple[Any, ...] | None) -> dict[str, Any]:
+             project: int, stats: CouplingStats, couplings: tuple[Any, ...] | None) -> dict[str, Any]:
     from spinward.plugins.common.flips import local_search
 
     start = time.perf_counter()
@@ -202,17 +182,6 @@ def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx:
     return out
 
 
-def _prediction(problem: CanonicalProblem, stats: diag.CouplingStats, pstar: float, best: dict) -> dict[str, Any]:
-    n = problem.n
-    fluct = stats.std * n**1.5
-    mean_part = _mean_part(stats.mean, n % 2, n) + problem.k0
-    e_n = pstar - FINITE_SIZE_A * n ** (-2.0 / 3.0)
-    e_best = _fluctuation_e(problem, best["sigma"], best["value"], stats)
-    return {"predicted_optimum": fluct * pstar + mean_part, "finite_size_estimate": fluct * e_n + mean_part,
-            "finite_size_source": FINITE_SIZE_SOURCE, "fraction_of_prediction": e_best / pstar,
-            "parisi_value": pstar}
-
-
 def _edges(A: Matvec, n_eff: int, ctx: SolveContext) -> tuple[float, float] | None:
     if not ctx.option("spectrum_check", True):
         return None
@@ -230,7 +199,7 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     raw = raw_matvec(couplings[0] if problem.kind == "dense" else problem.K, problem.kind, dtype)
     if problem.has_fields:
         raw = with_ghost(raw, np.asarray(problem.b, dtype=np.float64))
-    stats = coupling_stats(problem, raw, ctx)
+    stats, stat_notes = coupling_stats(problem, raw, ctx)
     n_eff = stats.n
     if problem.n < 2 or stats.std == 0:
         from spinward.plugins.common.flips import local_search
@@ -240,7 +209,7 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
         return Solution(sigma=sigma, info={"eligible": False})
     A = normalised(raw, stats.mean, stats.std)
     edges = _edges(A, n_eff, ctx)
-    notes, eligible = diag.findings(stats, edges, problem.has_fields)
+    notes, eligible = diag.findings(stats, edges, problem.has_fields, stat_notes)
     for note in notes:
         ctx.warn(note)
     tables, cached = load_tables(_int_option(ctx, "parisi_k", 1, 200), steps)
@@ -255,51 +224,40 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     return Solution(sigma=best["sigma"], info=info)
 
 
-def _info(problem: CanonicalProblem, stats: diag.CouplingStats, edges: Any, eligible: bool, tables: Any,
+def _info(problem: CanonicalProblem, stats: CouplingStats, edges: Any, eligible: bool, tables: Any,
           cached: bool, runs: list[dict], best: dict) -> dict[str, Any]:
     info: dict[str, Any] = {
         "eligible": eligible, "coupling_mean": stats.mean, "coupling_std": stats.std,
-        "density": stats.density, "excess_kurtosis": stats.excess_kurtosis, "scale_exact": stats.exact,
+        "density": stats.density if stats.exact else None, "excess_kurtosis": stats.excess_kurtosis,
+        "scale_exact": stats.exact,
         "spectrum_edges": edges, "parisi_cached": cached, "iterations": best["steps"],
         "iamp_seconds": [r["seconds"] for r in runs], "iamp_matvec_seconds": [r["matvec_seconds"] for r in runs],
         "stopped_early": any(r["stopped"] for r in runs),
-        "energy_per_spin_rounded": _fluctuation_e(problem, best["rounded"], best["rounded_value"], stats),
-        "energy_per_spin_cleaned": _fluctuation_e(problem, best["cleaned"], best["cleaned_value"], stats),
-        "energy_per_spin": _fluctuation_e(problem, best["sigma"], best["value"], stats),
+        "energy_per_spin_rounded": fluctuation_e(problem, best["rounded"], best["rounded_value"], stats),
+        "energy_per_spin_cleaned": fluctuation_e(problem, best["cleaned"], best["cleaned_value"], stats),
+        "energy_per_spin": fluctuation_e(problem, best["sigma"], best["value"], stats),
         "polish_seconds": [r["polish_seconds"] for r in runs],
-        "energy_per_spin_runs": [_fluctuation_e(problem, r["sigma"], r["value"], stats) for r in runs],
+        "energy_per_spin_runs": [fluctuation_e(problem, r["sigma"], r["value"], stats) for r in runs],
     }
     if eligible and problem.n >= MIN_PREDICTION_N:
-        info.update(_prediction(problem, stats, tables.value, best))
+        info.update(prediction(problem, stats, tables.value, best))
     if len(runs) > 1:
         S = np.stack([r["sigma"] for r in runs]).astype(np.float64)
         info["overlaps"] = (S @ S.T / problem.n).round(6).tolist()
     return info
 
 
-def fit(profile: Any) -> float:
-    """First choice on dense mean-field inputs (after exact structure); weak elsewhere.
-
-    ``profile`` is the core's problem profile (spinward.core.profile.Profile).
-    """
-    kind = getattr(profile, "kind", None)
-    n = getattr(profile, "n", 0)
-    if kind == "operator" or (getattr(profile, "mean_field", False) and getattr(profile, "dense", False) and n >= 200):
-        return 50.0
-    if kind == "dense" and n >= 1000:
-        return 3.0
-    return 0.2
-
-
 SPEC = SolverSpec(
     name="iamp",
     run=run,
     capabilities=Capabilities(fields=True, dense=True, sparse=True, operator=True, stochastic=True,
-                              assumptions=(MEAN_FIELD_ASSUMPTION,
+                              assumptions=(ASSUMPTION,
                                            "no fields (else one extra spin absorbs them, without guarantee)")),
     summary="IAMP driven by the zero-temperature Parisi solution, then single-flip clean-up",
     options=OPTIONS,
     fit=fit,
+    advise=advise,
+    predict=predict,
 )
 
 

@@ -7,7 +7,9 @@ import numpy as np
 import pytest
 
 import spinward
-from spinward.core.profile import lanczos_ritz, profile_of
+from spinward.core.profile import profile_of
+from spinward.core.spectrum import lanczos_ritz
+from spinward.plugins.iamp.prediction import mean_field, suitability
 
 
 def _sk(n, rng, pm=False):
@@ -19,16 +21,16 @@ def test_sk_gaussian_looks_mean_field(rng):
     p = profile_of(_sk(1200, rng))
     assert p.density == 1.0 and p.components == 1 and not p.ferromagnetic and not p.frustration_free
     assert abs(p.mean) < 0.01 and p.std == pytest.approx(1.0, abs=0.01)
-    assert p.kurtosis == pytest.approx(3.0, abs=0.3)      # Gaussian kurtosis 3 (handbook fact)
+    assert p.excess_kurtosis == pytest.approx(0.0, abs=0.3)  # Gaussian excess kurtosis 0 (handbook fact)
     # largest eigenvalue of J/√n → 2 (Wigner semicircle; Füredi & Komlós 1981); Lanczos estimate from below
     assert 1.8 < p.top_eigenvalues[0] < 2.1
-    assert p.mean_field
+    assert mean_field(p)  # the IAMP plugin's reading of the profile
 
 
-def test_pm_one_couplings_have_kurtosis_one(rng):
+def test_pm_one_couplings_have_excess_kurtosis_minus_two(rng):
     p = profile_of(_sk(600, rng, pm=True))
-    assert p.kurtosis == pytest.approx(1.0, abs=0.05)     # ±1 entries: E x⁴ / (E x²)² = 1
-    assert p.mean_field
+    assert p.excess_kurtosis == pytest.approx(-2.0, abs=0.05)  # ±1 entries: E x⁴ / (E x²)² − 3 = −2
+    assert mean_field(p)  # the IAMP plugin's reading of the profile
 
 
 def test_rank_one_outlier_is_flagged(rng):
@@ -40,14 +42,14 @@ def test_rank_one_outlier_is_flagged(rng):
     np.fill_diagonal(K, 0)
     p = profile_of(spinward.canonical(spinward.Ising(np.triu(K, 1))))
     assert p.top_eigenvalues[0] == pytest.approx(theta + 1 / theta, rel=0.08)
-    assert not p.mean_field and any("outlier" in r for r in p.mean_field_reasons)
+    assert not mean_field(p) and any("outlier" in r for r in suitability(p)[1])
 
 
 def test_dense_unit_graph_reports_its_mean():
     g = nx.gnp_random_graph(400, 0.5, seed=2)
     p = profile_of(spinward.canonical(g))
     assert p.mean == pytest.approx(-0.25, abs=0.01)      # K = −w/2 with edge probability 1/2
-    assert p.mean_outlier > 1 and any("mean" in r for r in p.mean_field_reasons)
+    assert p.mean_outlier > 1 and any("mean" in r for r in suitability(p)[1])
 
 
 def test_structure_flags(rng):
@@ -80,3 +82,22 @@ def test_dense_with_zero_couplings(rng):
     J = np.triu(np.abs(rng.normal(size=(200, 200))) * (rng.random((200, 200)) < 0.5), 1)
     p = profile_of(spinward.canonical(spinward.Ising(J)))
     assert p.frustration_free and p.ferromagnetic                 # all couplings ≥ 0: nothing to frustrate
+
+
+@pytest.mark.parametrize("n", [60, 70, 300])
+def test_dense_profile_matches_numpy_at_any_size(n):
+    """The dense fast path (n > 64) once reported "1 couplings" and a wrong field ratio; numpy is the reference."""
+    rng = np.random.default_rng(n)
+    J = np.triu(rng.normal(size=(n, n)), 1)
+    J[np.abs(J) < 0.3] = 0.0                       # some zero couplings, still dense
+    h = 0.05 * rng.normal(size=n)
+    problem = spinward.canonical(spinward.Ising(J, h))
+    p = profile_of(problem)
+    K = np.asarray(problem.K)
+    upper = K[np.triu_indices(n, 1)]
+    assert p.couplings == np.count_nonzero(upper)
+    assert p.density == pytest.approx(np.count_nonzero(upper) / upper.size)
+    assert p.mean == pytest.approx(upper.mean()) and p.std == pytest.approx(upper.std())
+    row_norm = np.sqrt(np.mean(np.sum(K ** 2, axis=1)))
+    assert p.field_ratio == pytest.approx(np.sqrt(np.mean(problem.b ** 2)) / row_norm)
+    assert p.max_abs == pytest.approx(np.abs(upper).max())
