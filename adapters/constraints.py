@@ -98,7 +98,7 @@ class Constraint:
             return 2.0
         return float(self.coefficients[0]) ** 2 if self.count_like else self.step ** 2
 
-    def sums(self, x: np.ndarray) -> np.ndarray | float:
+    def sums(self, x: np.ndarray) -> float:
         return float(self.coefficients @ x[self.index])
 
     def satisfied(self, x: np.ndarray) -> bool:
@@ -243,7 +243,18 @@ def _smallest_residual(a: np.ndarray, total: float, what: str) -> float:
 # --- weights ---------------------------------------------------------------------------------------------------
 
 def flip_bounds(base: CanonicalProblem) -> np.ndarray:
-    """D_i = 2·|scale|·(|b_i| + Σ_j |K_ij|): the most a flip of variable i changes the caller's objective."""
+    """D_i = 2·|scale|·(|b_i| + Σ_j |K_ij|): the most a flip of variable i changes the caller's objective.
+
+    Computed once per base problem (kept in its ``meta``).
+    """
+    cached = base.meta.get("_flip_bounds")
+    if cached is None:
+        cached = _flip_bounds(base)
+        base.meta["_flip_bounds"] = cached
+    return cached
+
+
+def _flip_bounds(base: CanonicalProblem) -> np.ndarray:
     if is_sparse(base.K):
         rows = np.asarray(abs(base.K).sum(axis=1)).ravel()
     else:

@@ -73,16 +73,18 @@ class Modelling(ProblemForm):
         specs = [(name, group) for name, group in named]
         if not specs:
             raise InputError("require_one_of needs at least one group of labels")
-        added = []
+        given, added = check_weight(weight), []
+        taken = len(self._constraints)
         try:
             for name, group in specs:
                 cname = self._name(None if name is None else str(name), "one-of")
                 labels, index = resolve_labels(group, self._index_of(), f"require_one_of({cname})")
-                added.append(self._add(Constraint(cname, "one-of", labels, index, np.ones(len(labels)), 1, 1,
-                                                  check_weight(weight))))
+                self._constraints.append(Constraint(cname, "one-of", labels, index, np.ones(len(labels)), 1, 1, given))
+                added.append(self._constraints[-1])
+            self._relayout()
         except InputError:
-            for c in added:
-                self.remove_constraint(c.name)
+            del self._constraints[taken:]
+            self._relayout()
             raise
         return added
 
@@ -212,7 +214,12 @@ class Modelling(ProblemForm):
         return self.base_canonical().labels
 
     def _index_of(self) -> dict[Hashable, int]:
-        return {label: k for k, label in enumerate(self._base_labels())}
+        base = self.base_canonical()
+        index = base.meta.get("_label_index")
+        if index is None:
+            index = {label: k for k, label in enumerate(base.labels)}
+            base.meta["_label_index"] = index
+        return index
 
     def _base_indicators(self, values: np.ndarray) -> np.ndarray:
         return (values[: len(self._base_labels())] == self.counted).astype(np.float64)

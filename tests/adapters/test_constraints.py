@@ -451,3 +451,15 @@ def test_warm_starts_and_fixed_values_in_the_callers_own_variables_with_slack():
     assert again.objective >= r.objective - 1e-9
     with pytest.raises(InputError, match="no value for label"):
         spinward.solve(form, method="tabu", initial={0: 1}, seed=1)
+
+
+def test_repair_reaches_a_permutation_when_rows_and_columns_overlap():
+    rng = np.random.default_rng(9)
+    cells = [(i, j) for i in range(5) for j in range(5)]
+    form = spinward.QUBO({(c, c): float(rng.integers(1, 9)) for c in cells})
+    form.require_one_of(*[[(i, j) for j in range(5)] for i in range(5)])
+    form.require_one_of(*[[(i, j) for i in range(5)] for j in range(5)])
+    state, info = form.repair_with_report(-np.ones(25, dtype=np.int8))  # nothing chosen
+    chosen = np.array(form.decode(state)).reshape(5, 5)
+    assert (chosen.sum(axis=0) == 1).all() and (chosen.sum(axis=1) == 1).all()  # a permutation matrix
+    assert info["flips_to_feasible"] == 5  # each flip fills one row and one column
