@@ -99,7 +99,7 @@ class Modelling(ProblemForm):
         return self._add(Constraint(cname, "balance", labels, index, np.ones(len(labels)), low, high,
                                     check_weight(weight)))
 
-    def require_sum(self, coefficients: Mapping[Hashable, float], total: float, *, weight: float | None = None,
+    def require_sum(self, coefficients: Mapping[Any, float], total: float, *, weight: float | None = None,
                     name: str | None = None) -> Constraint:
         """Σ coefficients[label] · x_label = ``total`` over the indicators x (a linear equality)."""
         cname = self._name(name, "sum")

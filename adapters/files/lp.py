@@ -301,9 +301,9 @@ def build(model: Model, p: Path) -> QUBO:
     if model.sense == "max":
         form.note(f"{p}: a maximisation, read as minimising the negated objective: the reported objective is "
                   f"the negative of the file's")
-    for name, coefficients, rhs, line in model.constraints:
+    for label, coefficients, rhs, line in model.constraints:
         try:
-            form.require_sum(coefficients, rhs, name=name)
+            form.require_sum(coefficients, rhs, name=label)
         except Exception as exc:  # an InputError about this constraint: say where it is
             raise FileFormatError(f"{p}:{line}: {exc}") from None
     return form

@@ -110,7 +110,7 @@ def build_program(problem: CanonicalProblem) -> Program:
                    edges=separation_edges(problem, i, j), nodes=n + (1 if problem.has_fields else 0))
 
 
-def separation_edges(problem: CanonicalProblem, i: np.ndarray, j: np.ndarray) -> tuple[np.ndarray, ...]:
+def separation_edges(problem: CanonicalProblem, i: np.ndarray, j: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(u, v, column): the couplings with their z columns, then spin–ghost edges (column x_i) for fields."""
     n, m = problem.n, len(i)
     f = np.flatnonzero(problem.b != 0)
