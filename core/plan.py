@@ -34,6 +34,8 @@ FREE_BOUND_SHARE = 0.15
 FREE_BOUND_FLOOR = 0.1
 #: a step given less than this is skipped (and the result says so)
 MIN_STEP_SECONDS = 0.005
+#: a heuristic primary always gets at least this long (inside the contract's slack): some state beats none
+LAST_RESORT_SECONDS = 0.03
 #: mapping back: seconds per stored coupling entry and per spin (measured on our 2-core machine, generous)
 RESERVE_PER_ENTRY = 4e-9
 RESERVE_PER_SPIN = 6e-7

@@ -21,7 +21,8 @@ from .context import SolveContext
 from .decompose import connected_components, subproblem
 from .dispatch import rank
 from .errors import InternalError, SolverUnsuitableError, SpinwardError
-from .plan import (MAX_PARTS, MIN_STEP_SECONDS, Part, Step, free_bound_allowance, improver_share, part_share)
+from .plan import (LAST_RESORT_SECONDS, MAX_PARTS, MIN_STEP_SECONDS, Part, Step, free_bound_allowance,
+                   improver_share, part_share)
 from .profile import Profile, profile_of
 from .registry import Bound, BoundSpec, Registry, Solution, SolverSpec
 
@@ -104,6 +105,8 @@ class Runner:
             budget = None if end is None else max(end - time.perf_counter(), 0.0) * (1 - improve)
             if budget is not None and budget < MIN_STEP_SECONDS and spec is not part.candidates[0]:
                 break  # no time for a fallback either: the first candidate's skip says why
+            if budget is not None and spec is part.candidates[0] and not spec.capabilities.exact:
+                budget = max(budget, LAST_RESORT_SECONDS)  # a state from the solver beats all spins up
             sol = self.step("primary", spec, part, embed, initial, budget)
             if sol is not None:
                 part.sigma, part.exact, part.solver = sol.sigma, sol.exact, spec.name
@@ -131,6 +134,9 @@ class Runner:
     def step(self, kind: str, spec: SolverSpec, part: Part, embed: Any, initial: np.ndarray | None,
              budget: float | None) -> Solution | None:
         """Run one solver step in a child context; None when it was skipped or declined."""
+        if budget is not None:
+            floor = LAST_RESORT_SECONDS if budget >= LAST_RESORT_SECONDS and kind == "primary" else 0.0
+            budget = max(budget - self._warm(spec, part.problem), floor)
         entry = Step(kind, spec.name, part.index, budget=budget)
         self.steps.append(entry)
         if budget is not None and budget < MIN_STEP_SECONDS:
@@ -153,6 +159,26 @@ class Runner:
         entry.value = self.problem.to_objective(part.problem.value(sol.sigma)) if len(part.idx) == self.problem.n \
             else None
         return sol
+
+    def _warm(self, spec: SolverSpec, problem: CanonicalProblem) -> float:
+        """The first run of a solver on a kind of couplings in this process loads its compiled code
+        (numba reads its cache: up to a second); do it on a 4-spin problem before sizing the step,
+        so that a time limit holds from the first call.  Returns the seconds it took."""
+        key = (spec.name, spec.run, problem.kind, str(getattr(problem.K, "dtype", "")), problem.has_fields)
+        if key in _WARMED or problem.kind == "operator":
+            return 0.0
+        _WARMED.add(key)
+        t0 = time.perf_counter()
+        tiny = _tiny_like(problem)
+        try:
+            ctx = SolveContext(rng=np.random.default_rng(0), time_limit=0.05, options=spec.read_options({}))
+            spec.run(tiny, ctx)
+        except Exception:  # a warm-up only: the real step reports any error
+            pass
+        seconds = time.perf_counter() - t0
+        self.steps.append(Step("warm-up", spec.name, seconds=seconds, outcome="ended",
+                               note="first use in this process: compiled code loaded"))
+        return seconds
 
     # ---------------------------------------------------------------- bounds
     def run_bounds(self, parts: list[Part]) -> Bound | None:
@@ -219,6 +245,20 @@ class Runner:
         entry.value = self.problem.to_objective(b.value) if problem.n == self.problem.n else None
         entry.note = "certified" if b.certified else "estimated"
         return b
+
+
+_WARMED: set[tuple[Any, ...]] = set()
+
+
+def _tiny_like(problem: CanonicalProblem) -> CanonicalProblem:
+    """A 4-spin frustrated problem stored like ``problem`` (dense with its dtype, or CSR), fields alike."""
+    K = np.array([[0, 1, -1, 1], [1, 0, 1, -1], [-1, 1, 0, 1], [1, -1, 1, 0]], dtype=np.float64) * 0.5
+    b = np.array([0.1, -0.2, 0.3, 0.05]) if problem.has_fields else np.zeros(4)
+    if problem.kind == "sparse":
+        import scipy.sparse as sp
+
+        return CanonicalProblem(sp.csr_array(K), b)
+    return CanonicalProblem(K.astype(problem.K.dtype), b)
 
 
 class PartTotals:

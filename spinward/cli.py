@@ -12,10 +12,13 @@ import contextlib
 import json
 import os
 import sys
+import time
 import warnings
 from typing import Any, Callable, Iterator, Sequence
 
 from . import __version__
+
+_LOADED = time.perf_counter()
 
 
 class _Parser(argparse.ArgumentParser):
@@ -34,6 +37,8 @@ def _option_pair(text: str) -> tuple[str, Any]:
         return key, json.loads(raw)
     except json.JSONDecodeError:
         return key, raw
+    except RecursionError:
+        raise argparse.ArgumentTypeError(f"option {key!r}: the value nests too deeply") from None
 
 
 def _read(args: argparse.Namespace) -> Any:
@@ -41,7 +46,7 @@ def _read(args: argparse.Namespace) -> Any:
     import spinward
     from spinward.core.errors import InputError
 
-    form = spinward.read_problem(args.file, form=args.form)
+    form = spinward.read_problem(args.file, form=args.form, format=args.format, weight=args.weight)
     sign = getattr(args, "energy_sign", None)
     if sign is None:
         return form
@@ -55,16 +60,49 @@ def _read(args: argparse.Namespace) -> Any:
     return form.with_energy_sign(sign)
 
 
+def _add_file_options(p: argparse.ArgumentParser) -> None:
+    from .adapters.files import FORMATS
+
+    p.add_argument("--format", choices=list(FORMATS), default=None,
+                   help="read the file in this format, whatever its extension")
+    p.add_argument("--weight", default=None, metavar="NAME",
+                   help="the edge attribute (GraphML) or CSV column holding the weights (default: weight)")
+
+
+def seconds_since_start() -> float:
+    """Seconds since this process started (Linux: from /proc; elsewhere: since this module loaded)."""
+    import os
+
+    try:
+        with open("/proc/self/stat", encoding="ascii") as fh:
+            start_ticks = int(fh.read().rsplit(")", 1)[1].split()[19])
+        with open("/proc/uptime", encoding="ascii") as fh:
+            uptime = float(fh.read().split()[0])
+        return max(uptime - start_ticks / os.sysconf("SC_CLK_TCK"), 0.0)
+    except (OSError, ValueError, IndexError):
+        return time.perf_counter() - _LOADED
+
+
+def solve_limit(limit: float | None, before_read: float) -> float | None:
+    """The CLI's contract counts from the process start, the file read aside: the start-up comes off the limit."""
+    if limit is None or limit <= 0:
+        return limit
+    return max(limit - before_read, 0.01)
+
+
 def cmd_solve(args: argparse.Namespace) -> int:
+    started = seconds_since_start()  # the interpreter and the imports so far
     import spinward
 
     from .progress import solve_progress
 
     with warnings.catch_warnings():  # every warning is in the result, and the summary prints each once
         warnings.simplefilter("ignore")
+        before_read = seconds_since_start() if started else 0.0
         form = _read(args)
+        limit = solve_limit(args.time_limit, before_read)
         with solve_progress(args.time_limit):
-            result = spinward.solve(form, method=args.method, time_limit=args.time_limit, seed=args.seed,
+            result = spinward.solve(form, method=args.method, time_limit=limit, seed=args.seed,
                                     **dict(args.option or []))
     print(result.summary())
     if args.output:
@@ -183,13 +221,14 @@ def build_parser() -> argparse.ArgumentParser:
     for name, (_, help_text) in COMMANDS.items():
         p = sub.add_parser(name, help=help_text, description=help_text)
         if name == "solve":
-            p.add_argument("file", help="problem file: .mtx .json .graphml .npy .npz or an edge list")
+            p.add_argument("file", help="problem file: .mtx .json .graphml .npy .npz .csv or an edge list")
             p.add_argument("--method", default="auto", help="solver name or 'auto' (see 'spinward solvers')")
             p.add_argument("--time-limit", type=float, default=None, help="wall-clock seconds")
             p.add_argument("--seed", type=int, default=None, help="random seed (recorded in the result)")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None,
                            help="how to read a bare matrix (.mtx/.npy/.npz); default qubo")
             p.add_argument("--energy-sign", choices=("physics", "hardware"), default=None, help=ENERGY_SIGN_HELP)
+            _add_file_options(p)
             p.add_argument("--output", "-o", default=None, help="write the result as JSON here")
             p.add_argument("--csv", default=None, help="write the assignment as CSV (label,value) here")
             p.add_argument("--option", action="append", type=_option_pair, metavar="KEY=VALUE",
@@ -200,11 +239,13 @@ def build_parser() -> argparse.ArgumentParser:
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
             p.add_argument("--energy-sign", choices=("physics", "hardware"), default=None, help=ENERGY_SIGN_HELP)
+            _add_file_options(p)
             p.add_argument("--time-limit", type=float, default=None, help="seconds per bound (default: no limit)")
         if name == "inspect":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
             p.add_argument("--energy-sign", choices=("physics", "hardware"), default=None, help=ENERGY_SIGN_HELP)
+            _add_file_options(p)
             p.add_argument("--time-limit", type=float, default=None, help="show the plan for this time limit")
         if name == "solvers":
             p.add_argument("--options", metavar="NAME", default=None,

@@ -36,6 +36,8 @@ EIGH_FLOP_FACTOR = 4.0 / 3.0   # a dense eigh (one eigenpair) costs about this m
 PASS_SECONDS = 2e-9   # seconds per stored coupling entry for one product with K (memory bound, generous)
 ITERATIONS = 100      # Lanczos restarts of the plain (estimated) bound, at most
 MIN_PASSES = 40       # an iterative estimate with fewer products with K than this is not worth starting
+STEP_SECONDS = 5e-4   # the iterative eigen-solvers' own work per product with K (measured: LOBPCG, sparse)
+SWEEP_FLOPS = 2e9     # multiply-adds per second of a mixing-method sweep (blocked BLAS or numba; generous)
 SINGLE_THREAD_UP_TO = 3000  # below this N, LAPACK runs on one BLAS thread (faster, and steady under load)
 
 
@@ -57,8 +59,13 @@ def _pass_cost(problem: CanonicalProblem) -> float:
 
 
 def _passes(seconds: float, lifted: CanonicalProblem) -> int:
-    """How many products with K fit into ``seconds`` (at most ``ITERATIONS`` Lanczos restarts' worth)."""
-    return int(min(ITERATIONS * eigen.LANCZOS_BASIS, max(seconds, 0.0) / max(_pass_cost(lifted), 1e-12)))
+    """How many products with K fit into ``seconds`` (at most ``ITERATIONS`` Lanczos restarts' worth).
+
+    Each product also pays the iterative solvers' own work per step (orthogonalisation, small
+    eigenproblems; ``STEP_SECONDS``), which dominates on sparse K.
+    """
+    per = _pass_cost(lifted) + STEP_SECONDS
+    return int(min(ITERATIONS * eigen.LANCZOS_BASIS, max(seconds, 0.0) / per))
 
 
 def available(ctx: SolveContext) -> float:
@@ -84,8 +91,14 @@ def dual_cost(problem: CanonicalProblem) -> float:
     """Predicted seconds of the SDP dual bound: the mixing method (unless a factor is cached) and its proof."""
     N = problem.n + (1 if problem.has_fields else 0)
     proof = _cholesky_cost(N) if N <= DENSE_LIMIT else MIN_PASSES * _pass_cost(problem)
-    solve = 0.0 if cached_factor(problem) is not None else 60 * 2 * default_rank(N) * _pass_cost(problem)
+    solve = 0.0 if cached_factor(problem) is not None else MIN_SWEEPS * _sweep_cost(problem)
     return solve + proof
+
+
+def _sweep_cost(problem: CanonicalProblem) -> float:
+    """One mixing-method sweep: a pass over K plus 2·entries·k multiply-adds (blocked products)."""
+    entries = problem.K.nnz if problem.kind == "sparse" else problem.n ** 2
+    return _pass_cost(problem) + 2.0 * entries * default_rank(problem.n) / SWEEP_FLOPS
 
 
 def limited_threads(N: int) -> Any:
@@ -248,7 +261,7 @@ def _dual(problem: CanonicalProblem, N: int, ctx: SolveContext) -> Bound | None:
     factor = cached_factor(problem)
     dense_limit = int(ctx.option("dense_limit", DENSE_LIMIT))
     proof = _cholesky_cost(N) if N <= dense_limit else MIN_PASSES * _pass_cost(lift(problem))
-    sweep = 2 * default_rank(N) * _pass_cost(lift(problem))
+    sweep = _sweep_cost(lift(problem))
     if not _fits(ctx, proof + (0.0 if factor is not None else MIN_SWEEPS * sweep)):
         return None  # neither a factor and its proof, nor a few sweeps and a proof, fit the allowance
     if factor is None:
