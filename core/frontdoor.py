@@ -194,9 +194,7 @@ class _Solve:
             if len(self.parts) == 1 and self.fixing is None and spec.predict is not None:
                 found = spec.predict(part.problem, prof)
                 if found:
-                    self.prediction = {**found, "optimum": self.problem.to_objective(found["optimum"]),
-                                       "finite_size_estimate": self.problem.to_objective(
-                                           found.get("finite_size_estimate", found["optimum"]))}
+                    self.prediction = caller_prediction(self.problem, found)
 
     # ---------------------------------------------------------------- the result
     def sigma(self) -> np.ndarray:
@@ -244,6 +242,12 @@ class _Solve:
         step.value = self.problem.to_objective(after)
         step.note = f"objective before {self.problem.to_objective(before):.12g}, after {step.value:.12g}"
         return repaired if (violated or after >= before) else sigma
+
+
+def caller_prediction(problem: CanonicalProblem, found: dict[str, Any]) -> dict[str, Any]:
+    """A solver's prediction in the caller's units and sign: its ``canonical`` values mapped, the rest kept."""
+    values = {name: problem.to_objective(float(v)) for name, v in found.get("canonical", {}).items()}
+    return {**{k: v for k, v in found.items() if k != "canonical"}, **values}
 
 
 def build_result(state: _Solve, sigma: np.ndarray, notes: list[str], steps: list[Step], pool: Any) -> Result:

@@ -40,7 +40,7 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     initial = ctx.option("initial", None)
     while done < max(int(restarts), 1):
         start = random_spins(problem.n, ctx.rng) if initial is None or done else np.asarray(initial, dtype=np.int8)
-        sigma, value = local_search(problem, start)
+        sigma, value = local_search(problem, start, should_stop=ctx.should_stop)
         ctx.offer(sigma, value)
         done += 1
         if ctx.should_stop():

@@ -8,8 +8,8 @@ guarantee no longer applies).  Each run rounds the IAMP magnetisation by sign an
 1-flip local optimum of the true problem, then (``polish_sweeps``) walks at low temperature
 from there and climbs again, keeping the better state.
 
-Result info (canonical units): predicted_optimum = s·n^{3/2}·P* plus the mean's part for a
-balanced state plus k₀, finite_size_estimate (e_n ≈ P* − 0.7·n^{−2/3}), fraction_of_prediction
+Result info: the predicted optimum is the result's ``info["prediction"]`` (from ``predict``, in the
+caller's units); here fraction_of_prediction
 (e/P*, the fluctuation part only, so a large mean part cannot inflate it),
 energy_per_spin_rounded / _cleaned / energy_per_spin (final, after the polish), where
 e = fluctuation part / (s·n^{3/2}), and overlaps (solutions > 1).

@@ -37,6 +37,7 @@ PASS_SECONDS = 2e-9   # seconds per stored coupling entry for one product with K
 ITERATIONS = 100      # Lanczos restarts of the plain (estimated) bound, at most
 MIN_PASSES = 40       # an iterative estimate with fewer products with K than this is not worth starting
 STEP_SECONDS = 5e-4   # the iterative eigen-solvers' own work per product with K (measured: LOBPCG, sparse)
+STEP_SECONDS_PER_ROW = 5e-7  # and its part that grows with N (orthogonalising against the basis; ARPACK, N = 5·10⁴)
 SWEEP_FLOPS = 2e9     # multiply-adds per second of a mixing-method sweep (blocked BLAS or numba; generous)
 SINGLE_THREAD_UP_TO = 3000  # below this N, LAPACK runs on one BLAS thread (faster, and steady under load)
 
@@ -64,7 +65,7 @@ def _passes(seconds: float, lifted: CanonicalProblem) -> int:
     Each product also pays the iterative solvers' own work per step (orthogonalisation, small
     eigenproblems; ``STEP_SECONDS``), which dominates on sparse K.
     """
-    per = _pass_cost(lifted) + STEP_SECONDS
+    per = _pass_cost(lifted) + STEP_SECONDS + STEP_SECONDS_PER_ROW * lifted.n
     return int(min(ITERATIONS * eigen.LANCZOS_BASIS, max(seconds, 0.0) / per))
 
 
@@ -83,7 +84,7 @@ def spectral_cost(problem: CanonicalProblem) -> float:
     lifted_n = problem.n + (1 if problem.has_fields else 0)
     if problem.kind == "dense" and lifted_n <= eigen.EIGH_LIMIT:
         return _eigh_cost(lifted_n) + _cholesky_cost(lifted_n)
-    estimate = MIN_PASSES * _pass_cost(problem)
+    estimate = MIN_PASSES * (_pass_cost(problem) + STEP_SECONDS + STEP_SECONDS_PER_ROW * lifted_n)
     return estimate + (_cholesky_cost(lifted_n) if lifted_n <= eigen.SMALL_SPARSE else 0.0)
 
 
