@@ -137,6 +137,10 @@ class Modelling(ProblemForm):
         sign = 1.0 if self.sense == "min" else -1.0
         return self._objective(v[: len(self._base_labels())]) + sign * total
 
+    def caller_count(self) -> int:
+        """The caller's variables come first; slack variables of count constraints follow them."""
+        return len(self._base_labels())
+
     def objective_without_penalties(self, values: np.ndarray) -> float:
         """The caller's objective from the base variables only (slack values, if given, are ignored)."""
         return self._objective(np.asarray(values)[: len(self._base_labels())])
