@@ -20,6 +20,24 @@ from .errors import InputError
 
 Sense = Literal["min", "max"]
 ROW_BLOCK = 512  # rows per block when streaming a float32 or memory-mapped K
+MATVEC_BLOCK_ENTRIES = 1 << 19  # entries per block of dense_matvec (a 4 MiB float64 temporary)
+
+
+def dense_matvec(K: Any, x: np.ndarray) -> np.ndarray:
+    """K @ x in float64 for a dense K of any float dtype (a memmap is fine), read in row blocks.
+
+    A float64 in-memory K is multiplied directly; any other K is converted a block of about
+    ``MATVEC_BLOCK_ENTRIES`` entries at a time, so no full float64 copy of K is ever made (numpy
+    would make one to multiply a float32 matrix by a float64 vector).
+    """
+    x = np.asarray(x, dtype=np.float64)
+    if K.dtype == np.float64 and not isinstance(K, np.memmap):
+        return np.asarray(K @ x, dtype=np.float64)
+    out = np.empty(K.shape[0])
+    rows = max(1, MATVEC_BLOCK_ENTRIES // max(K.shape[1], 1))
+    for start in range(0, K.shape[0], rows):
+        out[start:start + rows] = np.asarray(K[start:start + rows], dtype=np.float64) @ x
+    return out
 
 
 def is_sparse(K: Any) -> bool:
@@ -85,14 +103,9 @@ class CanonicalProblem:
         """
         if self.kind == "operator":
             return np.asarray(self.K.matvec(x), dtype=np.float64)
-        K = self.K
-        if self.kind == "dense" and (K.dtype != np.float64 or isinstance(K, np.memmap)):
-            x = np.asarray(x, dtype=np.float64)
-            out = np.empty(K.shape[0])
-            for start in range(0, K.shape[0], ROW_BLOCK):
-                out[start:start + ROW_BLOCK] = np.asarray(K[start:start + ROW_BLOCK], dtype=np.float64) @ x
-            return out
-        return np.asarray(K @ x, dtype=np.float64)
+        if self.kind == "dense":
+            return dense_matvec(self.K, x)
+        return np.asarray(self.K @ x, dtype=np.float64)
 
     def max_abs_coupling(self) -> float:
         """max |K_ij| (0 for an empty or operator K), computed once without an n² temporary."""
@@ -162,7 +175,9 @@ class CanonicalProblem:
             K2 = sp.block_array([[self.K, col], [col.T, None]], format="csr")
         else:
             K2 = np.zeros((n + 1, n + 1), dtype=np.float64)
-            K2[:n, :n] = self.dense_K()
+            for start in range(0, n, ROW_BLOCK):  # cast block by block: no temporary copy of K
+                end = min(start + ROW_BLOCK, n)
+                K2[start:end, :n] = self.K[start:end]
             K2[:n, n] = self.b
             K2[n, :n] = self.b
         return CanonicalProblem(K2, np.zeros(n + 1), self.k0, tuple(range(n + 1)), form="ghost")

@@ -4,22 +4,30 @@ Canonical sense: maximise C(σ) = ½σᵀKσ + bᵀσ + k₀.  The couplings are
 mean-field scale of docs/conventions.md, A = (K − m(11ᵀ − I)) / (s√n), so that on dense
 mean-zero i.i.d.-like couplings max ½σᵀAσ ≈ n·P* (P* ≈ 0.7632) and IAMP provably reaches
 (1 − ε)·P* (arXiv:1812.10897).  Fields are absorbed by one extra spin (with a warning: the
-guarantee no longer applies).  Each run rounds the IAMP magnetisation by sign and climbs to a
-1-flip local optimum of the true problem, then (``polish_sweeps``) walks at low temperature
-from there and climbs again, keeping the better state.
+guarantee no longer applies).
+
+Three stages, each reported on its own in the result's info (``stages``):
+1. IAMP: ``solutions`` runs, each rounded by sign (the state the guarantee is about);
+2. clean-up: each rounded state climbs to a 1-flip local optimum of the true problem;
+3. polish (plugins/iamp/polish.py): rounds of low-temperature re-annealing from the cleaned
+   states (``polish_sweeps`` sweeps each, β from ``polish_betas[0]`` to ``[1]`` in units of A);
+   the best state is kept, so the polish never loses what the first two stages found.
 
 Result info (canonical units): predicted_optimum = s·n^{3/2}·P* plus the mean's part for a
 balanced state plus k₀, finite_size_estimate (e_n ≈ P* − 0.7·n^{−2/3}), fraction_of_prediction
 (e/P*, the fluctuation part only, so a large mean part cannot inflate it),
 energy_per_spin_rounded / _cleaned / energy_per_spin (final, after the polish), where
-e = fluctuation part / (s·n^{3/2}), and overlaps (solutions > 1).
+e = fluctuation part / (s·n^{3/2}), ``stages`` (seconds and gain of each stage, per spin and
+in canonical units), ``guarantee`` (which state the IAMP guarantee covers), and overlaps (solutions > 1).
 
-Precision: by default (``precision="auto"``) the matvecs and the polish use a float32 working
-copy of a dense K (streamed block by block when no copy fits) or of a sparse K; reported values
-are always computed from the caller's K.  ``precision="float64"`` computes in float64.
+Precision: by default (``precision="auto"``) the matvecs use a float32 working copy of a dense K
+(a memmap, or a K too large for a copy, is streamed block by block) and the polish walks on
+an int16 copy (plugins/common/quantised.py) when it is accurate; reported values are always
+computed from the caller's K.  ``precision="float64"`` computes in float64 throughout.
 
-Time limits are checked at every IAMP step; the first Parisi solve (a few seconds, then cached
-on disk), the statistics pass, the Lanczos check and the polish run to completion.
+Time limits are checked at every IAMP step and every polish chunk; with a limit, polish rounds
+go on while another fits.  The first Parisi solve (a few seconds, then cached on disk), the
+statistics pass and the Lanczos check run to completion.
 """
 
 from __future__ import annotations
@@ -37,6 +45,7 @@ from spinward.core.statistics import CouplingStats
 
 from . import diagnostics as diag
 from .message_passing import Matvec, iamp, normalised, raw_matvec, with_ghost
+from .polish import PolishOutcome, PolishPlan, auto_betas, make_walker, run_polish, scale_of, walker_precision
 from .prediction import MIN_PREDICTION_N, fit, fluctuation_e, prediction
 
 OPTIONS: dict[str, Any] = {
@@ -48,14 +57,16 @@ OPTIONS: dict[str, Any] = {
     "lanczos_steps": 16,
     "coupling_std": None,    # the scale s, for a LinearOperator (else estimated from probes)
     "probes": 8,             # Hutchinson probes for s when K is a LinearOperator
-    "polish_sweeps": 3000,   # low-temperature Metropolis sweeps after the clean-up (0 = none)
-    "precision": "auto",     # matvecs and polish in float32 ("auto", "float32") or float64
+    "polish_sweeps": 6000,   # sweeps per polish round after the clean-up (0 = no polish)
+    "polish_rounds": "auto",  # rounds: 1 without a time limit, as many as fit with one; or an integer
+    "polish_betas": "auto",  # β of the polish, first and last sweep, in units of A (T_c = 1 for SK); see polish.py
+    "precision": "auto",     # "auto": float32 matvecs, int16 polish; "float32"; "float64"
 }
-#: polish temperatures in units of A (T_c = 1 for SK): β runs linearly between these
-POLISH_BETAS = (1.5, 15.0)
 #: "auto" runs: as many as cost one run at this size (a run costs ∝ n²), at most AUTO_MAX_RUNS
 AUTO_REFERENCE_N = 2000
 AUTO_MAX_RUNS = 4
+#: bytes the polish's integer copy of K may take
+INTEGER_COPY_LIMIT = 1 << 30
 
 
 def _int_option(ctx: SolveContext, name: str, low: int, high: int) -> int:
@@ -92,15 +103,15 @@ def working_precision(problem: CanonicalProblem, ctx: SolveContext) -> tuple[tup
     """(working couplings for the polish, dtype of the IAMP matvecs).
 
     "auto" computes in float32 (the method is matvec-bound and float32 couplings lose nothing
-    measurable); a dense K too large for a float32 copy is used as given (plugins.common.couplings)
-    and streamed, each block cast on the fly.
+    measurable); a memmap, or a dense K too large for a float32 copy, is used as given
+    (plugins.common.couplings) and streamed, each block cast on the fly.
     """
     from spinward.plugins.common.couplings import check_precision, working_couplings
 
     precision = check_precision(ctx.option("precision", OPTIONS["precision"]), "iamp")
     dtype = np.float64 if precision == "float64" else np.float32
-    if problem.kind == "operator":
-        return (problem.K,), dtype
+    if problem.kind == "operator" or isinstance(problem.K, np.memmap):
+        return (problem.K,), dtype  # a memmap is streamed in row blocks, never copied
     return working_couplings(problem, precision, "iamp"), dtype
 
 
@@ -132,31 +143,31 @@ def _sign(v: np.ndarray) -> np.ndarray:
     return np.where(v >= 0, 1, -1).astype(np.int8)
 
 
-def polish(problem: CanonicalProblem, couplings: tuple[Any, ...], sigma: np.ndarray, stats: CouplingStats,
-           sweeps: int, seed: int) -> tuple[np.ndarray, float]:
-    """Low-temperature single-flip Metropolis from ``sigma`` (β linear from 1.5 to 15 in units of A), then greedy.
-
-    ``couplings`` is the working copy of K (plugins.common.couplings).  The IAMP state sits in
-    a good region; a walk at T ≤ 0.67·T_c finds better nearby local optima.  Measured at
-    n = 4000 (4 instances, float32): 1000 sweeps from β = 2 gave +0.0018 per spin in 0.16 s,
-    3000 sweeps from β = 1.5 +0.0031 in 0.57 s, 6000 sweeps +0.0033 in 1.1 s.
-    """
-    from spinward.plugins.common.flips import local_search
-
-    from . import _kernels as kern
-
-    s = np.asarray(sigma, dtype=np.float64).copy()
-    h = problem.local_fields(s)
-    betas = np.linspace(*POLISH_BETAS, sweeps) / (stats.std * np.sqrt(stats.n))
-    if problem.kind == "sparse":
-        kern.metropolis_csr(*couplings, h, s, betas, seed)
-    else:
-        kern.metropolis_dense(*couplings, h, s, betas, seed)
-    return local_search(problem, s.astype(np.int8))
+def _polish_plan(ctx: SolveContext, stats: CouplingStats) -> PolishPlan | None:
+    """The polish settings from the options (None when ``polish_sweeps`` is 0)."""
+    sweeps = _int_option(ctx, "polish_sweeps", 0, 10**7)
+    if sweeps == 0:
+        return None
+    rounds = ctx.option("polish_rounds", OPTIONS["polish_rounds"])
+    if rounds != "auto" and (isinstance(rounds, bool) or not isinstance(rounds, (int, np.integer))
+                             or not 1 <= rounds <= 10**6):
+        raise InputError(f"option 'polish_rounds' must be 'auto' or an integer in [1, 1000000], got {rounds!r}")
+    betas = ctx.option("polish_betas", OPTIONS["polish_betas"])
+    if betas == "auto":
+        betas = auto_betas(stats.n)
+    try:
+        lo, hi = (float(v) for v in betas)
+    except (TypeError, ValueError):
+        lo = hi = math.nan
+    if not 0 < lo <= hi < math.inf:
+        raise InputError(f"option 'polish_betas' must be 'auto' or two numbers 0 < first <= last (units of A, "
+                         f"e.g. (1.2, 20)), got {betas!r}")
+    return PolishPlan(sweeps, None if rounds == "auto" else int(rounds), (lo, hi), scale_of(stats.std, stats.n))
 
 
 def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx: SolveContext,
-             project: int, stats: CouplingStats, couplings: tuple[Any, ...] | None) -> dict[str, Any]:
+             project: int) -> dict[str, Any]:
+    """One IAMP run, rounded by sign and cleaned by a greedy climb on the true problem."""
     from spinward.plugins.common.flips import local_search
 
     start = time.perf_counter()
@@ -166,21 +177,13 @@ def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx:
     if n_eff > problem.n:  # ghost spin last: undo the gauge
         rounded = (rounded[:-1] * rounded[-1]).astype(np.int8)
     rounded_value = problem.value(rounded)
+    start = time.perf_counter()
     sigma, value = local_search(problem, rounded)
     ctx.offer(sigma, value)
-    out = {"sigma": sigma, "value": value, "rounded": rounded, "rounded_value": rounded_value,
-           "cleaned": sigma, "cleaned_value": value, "steps": res.steps, "stopped": res.stopped,
-           "seconds": seconds, "matvec_seconds": res.matvec_seconds, "polish_seconds": 0.0}
-    sweeps = _int_option(ctx, "polish_sweeps", 0, 10**7)
-    if sweeps and couplings is not None and not ctx.should_stop():
-        start = time.perf_counter()
-        seed = int(ctx.rng.integers(0, 2**31 - 1))
-        polished, pvalue = polish(problem, couplings, sigma, stats, sweeps, seed)
-        out["polish_seconds"] = time.perf_counter() - start
-        if pvalue > value:
-            out["sigma"], out["value"] = polished, pvalue
-            ctx.offer(polished, pvalue)
-    return out
+    return {"sigma": sigma, "value": value, "rounded": rounded, "rounded_value": rounded_value,
+            "cleaned": sigma, "cleaned_value": value, "steps": res.steps, "stopped": res.stopped,
+            "seconds": seconds, "matvec_seconds": res.matvec_seconds,
+            "clean_up_seconds": time.perf_counter() - start}
 
 
 def _edges(A: Matvec, n_eff: int, ctx: SolveContext) -> tuple[float, float] | None:
@@ -189,13 +192,27 @@ def _edges(A: Matvec, n_eff: int, ctx: SolveContext) -> tuple[float, float] | No
     return diag.lanczos_extremes(A, n_eff, ctx.rng, _int_option(ctx, "lanczos_steps", 2, 500))
 
 
+def _polish_runs(problem: CanonicalProblem, runs: list[dict], couplings: tuple[Any, ...], stats: CouplingStats,
+                 ctx: SolveContext) -> PolishOutcome | None:
+    """Polish rounds from the cleaned IAMP states (None when disabled, stopped, or K is an operator)."""
+    plan = _polish_plan(ctx, stats)
+    if plan is None or problem.kind == "operator" or ctx.should_stop():
+        return None
+    precision = str(ctx.option("precision", OPTIONS["precision"]))
+    walker = make_walker(problem, couplings, stats.std, precision, INTEGER_COPY_LIMIT)
+    outcome = run_polish(problem, [(r["cleaned"], r["cleaned_value"]) for r in runs], plan, walker, ctx)
+    outcome.precision, outcome.betas = walker_precision(walker), plan.betas
+    return outcome
+
+
 def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
-    """IAMP runs (``solutions`` of them) sharing one Parisi solution; the best cleaned state is returned."""
+    """IAMP runs (``solutions`` of them) sharing one Parisi solution, cleaned, then polished; the best is returned."""
     from .parisi import load_tables
 
     runs_wanted = _runs_wanted(ctx, problem.n)
     steps = int(round(1.0 / _delta(ctx)))
     project = _int_option(ctx, "project", 0, 16)
+    _polish_plan(ctx, CouplingStats(1, 0, 0.0, 1.0, 0.0, 1.0, None, 0.0))  # bad options fail before any work
     couplings, dtype = working_precision(problem, ctx)
     raw = raw_matvec(couplings[0] if problem.kind == "dense" else problem.K, problem.kind, dtype)
     if problem.has_fields:
@@ -216,34 +233,72 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     tables, cached = load_tables(_int_option(ctx, "parisi_k", 1, 200), steps)
     runs = []
     for _ in range(runs_wanted):
-        runs.append(_one_run(problem, A, n_eff, tables, ctx, project, stats,
-                             None if problem.kind == "operator" else couplings))
+        runs.append(_one_run(problem, A, n_eff, tables, ctx, project))
         if ctx.should_stop():
             break
-    best = max(runs, key=lambda r: r["value"])
-    info = _info(problem, stats, edges, eligible, tables, cached, runs, best)
+    polished = _polish_runs(problem, runs, couplings, stats, ctx)
+    best = dict(max(runs, key=lambda r: r["value"]))
+    if polished is not None and polished.value > best["value"]:
+        best["sigma"], best["value"] = polished.sigma, polished.value
+    info = _info(problem, stats, edges, eligible, tables, cached, runs, best, polished)
     return Solution(sigma=best["sigma"], info=info)
 
 
+def _stages(problem: CanonicalProblem, stats: CouplingStats, runs: list[dict], best: dict,
+            polished: PolishOutcome | None) -> dict[str, Any]:
+    """Seconds and gain of each stage: IAMP (rounded), clean-up (greedy), polish (re-anneal rounds).
+
+    Gains are in canonical units (``gain``) and in e, the energy per spin of docs/conventions.md
+    (``gain_per_spin``, differences of e between the stage's end and start states, so the three
+    add up to the final e); the clean-up's gain is that of the best cleaned run over its own
+    rounded state.
+    """
+    top = max(runs, key=lambda r: r["cleaned_value"])
+    e_rounded = fluctuation_e(problem, top["rounded"], top["rounded_value"], stats)
+    e_cleaned = fluctuation_e(problem, top["cleaned"], top["cleaned_value"], stats)
+    stages: dict[str, Any] = {
+        "iamp": {"seconds": sum(r["seconds"] for r in runs), "runs": len(runs), "value": top["rounded_value"],
+                 "energy_per_spin": e_rounded},
+        "clean_up": {"seconds": sum(r["clean_up_seconds"] for r in runs), "method": "greedy single flips",
+                     "gain": top["cleaned_value"] - top["rounded_value"], "gain_per_spin": e_cleaned - e_rounded},
+    }
+    if polished is not None:
+        e_final = fluctuation_e(problem, best["sigma"], best["value"], stats)
+        stages["polish"] = {"seconds": polished.seconds, "rounds": len(polished.round_values),
+                            "sweeps": polished.sweeps, "moves": polished.moves, "stopped_early": polished.stopped,
+                            "precision": polished.precision, "betas": list(polished.betas),
+                            "round_values": polished.round_values,
+                            "gain": best["value"] - top["cleaned_value"], "gain_per_spin": e_final - e_cleaned}
+    return stages
+
+
+GUARANTEE_NOTE = ("the IAMP guarantee ((1 − ε)·P* as n → ∞, on mean-field couplings) is about the rounded IAMP "
+                  "state; the clean-up and the polish only ever improve on it (the best state is kept), "
+                  "without a guarantee of their own")
+
+
 def _info(problem: CanonicalProblem, stats: CouplingStats, edges: Any, eligible: bool, tables: Any,
-          cached: bool, runs: list[dict], best: dict) -> dict[str, Any]:
+          cached: bool, runs: list[dict], best: dict, polished: PolishOutcome | None) -> dict[str, Any]:
+    top = max(runs, key=lambda r: r["cleaned_value"])
     info: dict[str, Any] = {
         "eligible": eligible, "coupling_mean": stats.mean, "coupling_std": stats.std,
         "density": stats.density if stats.exact else None, "excess_kurtosis": stats.excess_kurtosis,
         "scale_exact": stats.exact,
-        "spectrum_edges": edges, "parisi_cached": cached, "iterations": best["steps"],
+        "spectrum_edges": edges, "parisi_cached": cached, "iterations": top["steps"],
         "iamp_seconds": [r["seconds"] for r in runs], "iamp_matvec_seconds": [r["matvec_seconds"] for r in runs],
-        "stopped_early": any(r["stopped"] for r in runs),
-        "energy_per_spin_rounded": fluctuation_e(problem, best["rounded"], best["rounded_value"], stats),
-        "energy_per_spin_cleaned": fluctuation_e(problem, best["cleaned"], best["cleaned_value"], stats),
+        "stopped_early": any(r["stopped"] for r in runs) or bool(polished and polished.stopped),
+        "energy_per_spin_rounded": fluctuation_e(problem, top["rounded"], top["rounded_value"], stats),
+        "energy_per_spin_cleaned": fluctuation_e(problem, top["cleaned"], top["cleaned_value"], stats),
         "energy_per_spin": fluctuation_e(problem, best["sigma"], best["value"], stats),
-        "polish_seconds": [r["polish_seconds"] for r in runs],
-        "energy_per_spin_runs": [fluctuation_e(problem, r["sigma"], r["value"], stats) for r in runs],
+        "polish_seconds": polished.seconds if polished is not None else 0.0,
+        "energy_per_spin_runs": [fluctuation_e(problem, r["cleaned"], r["cleaned_value"], stats) for r in runs],
+        "stages": _stages(problem, stats, runs, best, polished),
+        "guarantee": GUARANTEE_NOTE,
     }
     if eligible and problem.n >= MIN_PREDICTION_N:
         info.update(prediction(problem, stats, tables.value, best))
     if len(runs) > 1:
-        S = np.stack([r["sigma"] for r in runs]).astype(np.float64)
+        S = np.stack([r["cleaned"] for r in runs]).astype(np.float64)
         info["overlaps"] = (S @ S.T / problem.n).round(6).tolist()
     return info
 
@@ -254,7 +309,7 @@ SPEC = SolverSpec(
     capabilities=Capabilities(fields=True, dense=True, sparse=True, operator=True, stochastic=True,
                               assumptions=(MEAN_FIELD_ASSUMPTION,
                                            "no fields (else one extra spin absorbs them, without guarantee)")),
-    summary="IAMP driven by the zero-temperature Parisi solution, then single-flip clean-up",
+    summary="IAMP driven by the zero-temperature Parisi solution, greedy clean-up, then low-temperature re-annealing",
     options=OPTIONS,
     fit=fit,
 )
