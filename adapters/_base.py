@@ -35,12 +35,16 @@ def build_canonical(P: Any, linear: np.ndarray, constant: float, *, sign: float,
 
 
 def _max_abs(P: Any) -> float:
+    if hasattr(P, "abs_sum"):  # couplings held elsewhere in row blocks (adapters/distributed.py)
+        return float(P.max_abs())
     if is_sparse(P):
         return float(abs(P).max()) if P.nnz else 0.0
     return max((float(np.abs(block).max()) for block in _row_blocks(P) if block.size), default=0.0)
 
 
 def _mass(P: Any) -> float:
+    if hasattr(P, "abs_sum"):
+        return float(P.abs_sum())
     if is_sparse(P):
         return float(abs(P).sum())
     return sum(float(np.abs(block).sum(dtype=np.float64)) for block in _row_blocks(P))

@@ -10,6 +10,7 @@ A dense J that is exactly symmetric with a zero diagonal is used in place, never
 float32 ``np.load(path, mmap_mode="r")`` of any size goes to the solver as it is, and every
 check here reads it in tiles.  An upper-triangular J (J + Jᵀ), a non-zero diagonal or a
 nearly symmetric J ((J + Jᵀ)/2) needs one copy of the input's dtype; its size is checked first.
+A dask array J stays on its workers, in row blocks (adapters/distributed.py).
 """
 
 from __future__ import annotations
@@ -22,6 +23,7 @@ from spinward.core.canonical import CanonicalProblem, dense_matvec, is_sparse
 from spinward.core.errors import InputError
 
 from ._base import CachedForm, build_canonical
+from .distributed import is_dask_array
 from .terms import dict_to_matrix
 from .validate import (as_real_matrix, as_vector, check_dense_memory, check_number, dense_tiles, first_appearance,
                        labels_for)
@@ -42,6 +44,8 @@ class Ising(CachedForm):
         self.offset = check_number(offset, "offset")
         if isinstance(J, Mapping) or (J is None and isinstance(h, Mapping)):
             self._init_dicts(dict(J or {}), h, labels)
+        elif is_dask_array(J):
+            self._init_distributed(J, h, labels, symmetrize)
         else:
             self._init_matrix(J, h, labels, symmetrize)
 
@@ -71,6 +75,23 @@ class Ising(CachedForm):
         M = self._drop_diagonal(M)
         self._raw = M
         self.pairs = self._pair_matrix(M, symmetrize)
+        self.h = np.zeros(n) if h is None else as_vector(h, n, "h")
+        self._labels = labels_for(n, labels, "Ising")
+
+    def _init_distributed(self, J: Any, h: Any, labels: Iterable[Hashable] | None, symmetrize: bool) -> None:
+        """J as a dask array in row blocks: checked and multiplied where it lives (adapters/distributed.py)."""
+        from .distributed import DaskCouplings
+
+        self._terms = None
+        notes: list[str] = []
+        couplings = DaskCouplings(J, notes=notes)
+        mode, repairs = couplings.check(symmetrize, SYMMETRY_RTOL, np.random.default_rng(0))
+        for message in notes + repairs:
+            self.note(message)
+        n = couplings.shape[0]
+        self._raw = couplings
+        self._triangular = mode == "triangular"
+        self.pairs = couplings
         self.h = np.zeros(n) if h is None else as_vector(h, n, "h")
         self._labels = labels_for(n, labels, "Ising")
 
@@ -124,6 +145,8 @@ class Ising(CachedForm):
             total = -sum(float(v) * s[index[i]] * s[index[j]] for (i, j), v in self._terms.items())
             total -= sum(v * s[index[k]] for k, v in self._fields.items())
             return float(total) + self.offset
+        if is_dask_array(getattr(self._raw, "array", None)):  # K s on the cluster: E = −½sᵀKs − hᵀs
+            return float(-0.5 * s @ self._raw.matvec(s) - self.h @ s) + self.offset
         weight = 1.0 if self._triangular else 0.5  # sᵀJs counts each pair once or twice
         Js = np.asarray(self._raw @ s, dtype=np.float64) if is_sparse(self._raw) else dense_matvec(self._raw, s)
         return float(-weight * s @ Js - self.h @ s) + self.offset

@@ -257,6 +257,10 @@ MAX_FRACTION_BITS = 40
 
 
 def _blocks(part: Any) -> Iterable[np.ndarray]:
+    if hasattr(part, "fraction_bits"):  # couplings held elsewhere: the blocks report their own digits
+        bits = int(part.fraction_bits())
+        yield np.array([math.ldexp(1.0, -bits)]) if bits else np.zeros(0)
+        return
     if is_sparse(part):
         yield np.asarray(part.data if hasattr(part, "data") else part.tocoo().data, dtype=np.float64)
         return

@@ -12,7 +12,7 @@ caller's sense ("min" or "max").  ``labels[i]`` is the caller's name of spin i.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any, Hashable, Literal, Sequence
+from typing import Any, Callable, Hashable, Literal, Protocol, Sequence
 
 import numpy as np
 
@@ -38,6 +38,34 @@ def dense_matvec(K: Any, x: np.ndarray) -> np.ndarray:
     for start in range(0, K.shape[0], rows):
         out[start:start + rows] = np.asarray(K[start:start + rows], dtype=np.float64) @ x
     return out
+
+
+class RowBlocks(Protocol):
+    """Couplings held elsewhere in row blocks (the workers of a cluster, say): a LinearOperator-like K.
+
+    Such a K has kind "operator", so only operator-capable solvers take it; those that know
+    this protocol also get exact moments and can run a function where each block lives, so
+    that only vectors of length n travel (adapters/distributed.py holds the dask version).
+    ``bounds[k]`` is the (first, end) row range of block k; blocks are in row order.
+    """
+
+    shape: tuple[int, int]
+    bounds: tuple[tuple[int, int], ...]
+
+    def matvec(self, x: np.ndarray) -> np.ndarray: ...            # K x in float64
+
+    def matvec_as(self, x: np.ndarray, dtype: Any) -> np.ndarray: ...  # K x computed in dtype, returned as float64
+
+    def power_sums(self) -> tuple[float, float, float, float, int, float]: ...  # Σx..Σx⁴, #non-zero, max|x|, off-diagonal
+
+    def max_abs(self) -> float: ...
+
+    def on_block(self, k: int, fn: Callable[..., Any], *args: Any) -> Any: ...  # fn(rows of K, first row, *args) where block k lives
+
+
+def row_blocks(K: Any) -> RowBlocks | None:
+    """K itself when it follows the :class:`RowBlocks` protocol, else None."""
+    return K if all(hasattr(K, name) for name in ("bounds", "matvec_as", "power_sums", "on_block")) else None
 
 
 def is_sparse(K: Any) -> bool:

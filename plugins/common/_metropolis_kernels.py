@@ -103,3 +103,31 @@ def integer_fields(K, sigma, b):  # pragma: no cover - compiled
             acc += np.int64(row[j]) * sigma[j]
         out[i] = acc
     return out
+
+
+@nb.njit(cache=True)
+def walk_rows(rows, first, h, sigma, betas, state):  # pragma: no cover - compiled
+    """:func:`walk_dense` over spins first..first+len(rows) only, from their rows (of a symmetric M).
+
+    Used where a block of rows lives (a worker): h and sigma are the full float64 vectors and are
+    updated in place; M's diagonal entry is not a coupling, so a flip leaves hᵢ's own term alone.
+    """
+    n = sigma.shape[0]
+    taken = 0
+    for t in range(betas.shape[0]):
+        beta = betas[t]
+        for a in range(rows.shape[0]):
+            i = first + a
+            gain = -2.0 * sigma[i] * h[i]
+            if gain < 0.0:
+                x = beta * gain
+                if x < -_EXP_CUTOFF or uniform(state) >= math.exp(x):
+                    continue
+            sigma[i] = -sigma[i]
+            step = 2.0 * sigma[i]
+            row = rows[a]
+            for j in range(n):
+                h[j] += step * row[j]
+            h[i] -= step * row[i]
+            taken += 1
+    return taken

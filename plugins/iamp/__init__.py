@@ -41,7 +41,9 @@ import numpy as np
 
 from spinward.core.registry import MEAN_FIELD_ASSUMPTION
 from spinward.core import CanonicalProblem, Capabilities, InputError, Solution, SolveContext, SolverSpec, hookimpl
+from spinward.core.canonical import row_blocks
 from spinward.core.statistics import CouplingStats
+from spinward.core.statistics import _from_sums as from_power_sums  # the core's one moment formula
 
 from . import diagnostics as diag
 from .message_passing import Matvec, iamp, normalised, raw_matvec, with_ghost
@@ -61,6 +63,7 @@ OPTIONS: dict[str, Any] = {
     "polish_rounds": "auto",  # rounds: 1 without a time limit, as many as fit with one; or an integer
     "polish_betas": "auto",  # β of the polish, first and last sweep, in units of A (T_c = 1 for SK); see polish.py
     "precision": "auto",     # "auto": float32 matvecs, int16 polish; "float32"; "float64"
+    "block_visit_sweeps": 1,  # couplings in row blocks on a cluster: polish sweeps per visit of a block
 }
 #: "auto" runs: as many as cost one run at this size (a run costs ∝ n²), at most AUTO_MAX_RUNS
 AUTO_REFERENCE_N = 2000
@@ -118,7 +121,10 @@ def working_precision(problem: CanonicalProblem, ctx: SolveContext) -> tuple[tup
 def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext) -> tuple[CouplingStats, list[str]]:
     """Moments of K's off-diagonal entries (the core's, exact); with fields, of the ghost-augmented matrix."""
     notes: list[str] = []
-    if problem.kind == "operator":
+    blocks = row_blocks(problem.K)
+    if blocks is not None:  # every entry read where it lives: exact
+        stats = from_power_sums(problem.n, blocks.power_sums(), problem.n)
+    elif problem.kind == "operator":
         std = ctx.option("coupling_std", None)
         stats, notes = diag.operator_stats(raw, problem.n, ctx.rng, _int_option(ctx, "probes", 1, 1000),
                                            None if std is None else float(std))
@@ -170,6 +176,8 @@ def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx:
     """One IAMP run, rounded by sign and cleaned by a greedy climb on the true problem."""
     from spinward.plugins.common.flips import local_search
 
+    from .distributed import block_local_search
+
     start = time.perf_counter()
     res = iamp(A, n_eff, tables, ctx.rng, project=project, should_stop=ctx.should_stop)
     seconds = time.perf_counter() - start
@@ -178,7 +186,8 @@ def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx:
         rounded = (rounded[:-1] * rounded[-1]).astype(np.int8)
     rounded_value = problem.value(rounded)
     start = time.perf_counter()
-    sigma, value = local_search(problem, rounded)
+    climb = block_local_search if row_blocks(problem.K) is not None else local_search
+    sigma, value = climb(problem, rounded)
     ctx.offer(sigma, value)
     return {"sigma": sigma, "value": value, "rounded": rounded, "rounded_value": rounded_value,
             "cleaned": sigma, "cleaned_value": value, "steps": res.steps, "stopped": res.stopped,
@@ -196,10 +205,11 @@ def _polish_runs(problem: CanonicalProblem, runs: list[dict], couplings: tuple[A
                  ctx: SolveContext) -> PolishOutcome | None:
     """Polish rounds from the cleaned IAMP states (None when disabled, stopped, or K is an operator)."""
     plan = _polish_plan(ctx, stats)
-    if plan is None or problem.kind == "operator" or ctx.should_stop():
+    if plan is None or ctx.should_stop() or (problem.kind == "operator" and row_blocks(problem.K) is None):
         return None
     precision = str(ctx.option("precision", OPTIONS["precision"]))
-    walker = make_walker(problem, couplings, stats.std, precision, INTEGER_COPY_LIMIT)
+    walker = make_walker(problem, couplings, stats.std, precision, INTEGER_COPY_LIMIT,
+                         _int_option(ctx, "block_visit_sweeps", 1, 10**6))
     outcome = run_polish(problem, [(r["cleaned"], r["cleaned_value"]) for r in runs], plan, walker, ctx)
     outcome.precision, outcome.betas = walker_precision(walker), plan.betas
     return outcome

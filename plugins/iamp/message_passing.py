@@ -43,6 +43,8 @@ def raw_matvec(K: Any, kind: str, dtype: Any = np.float64) -> Matvec:
     in its own precision.
     """
     if kind == "operator":
+        if hasattr(K, "matvec_as"):  # row blocks held elsewhere compute in the working precision too
+            return lambda x: K.matvec_as(x, dtype)
         return lambda x: np.asarray(K.matvec(x), dtype=np.float64).reshape(-1)
     if kind == "sparse":
         csr = K.tocsr().astype(dtype)

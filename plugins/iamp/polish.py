@@ -59,10 +59,11 @@ class PolishPlan:
 class Walker:
     """What one walk needs: the kernel, its couplings and how to turn σ into fields."""
 
-    kind: str                  # "integer", "dense" or "csr"
+    kind: str                  # "integer", "dense", "csr" or "blocks" (row blocks held elsewhere)
     couplings: tuple[Any, ...]
     unit: float = 1.0          # canonical value of one integer step (integer walks)
     c: np.ndarray | None = None
+    visit: int = 1             # sweeps per visit of a block (row blocks held elsewhere)
 
     def fields(self, problem: CanonicalProblem, sigma: np.ndarray) -> np.ndarray:
         from spinward.plugins.common import _metropolis_kernels as kern
@@ -79,6 +80,10 @@ class Walker:
             return int(kern.walk_integer(self.couplings[0], h, sigma, betas * self.unit, state))
         if self.kind == "csr":
             return int(kern.walk_csr(*self.couplings, h, sigma, betas, state))
+        if self.kind == "blocks":
+            from .distributed import block_walk
+
+            return block_walk(self.couplings[0], h, sigma, betas, state, self.visit)
         return int(kern.walk_dense(self.couplings[0], h, sigma, betas, state))
 
 
@@ -112,19 +117,21 @@ def walk_round(problem: CanonicalProblem, walker: Walker, start: np.ndarray, bet
                seed: int, ctx: SolveContext) -> tuple[np.ndarray, int, int, bool]:
     """One walk from ``start`` in clock-checked chunks; (end state int8, moves, sweeps, stopped early).
 
-    The chunk length only sets how often the clock is read: the walk itself depends on the seed alone.
+    The chunk length only sets how often the clock is read: the walk itself depends on the seed alone
+    (row blocks held elsewhere are walked in groups of a fixed length, plugins/iamp/distributed.py).
     """
     sigma = start.astype(np.int8 if walker.kind == "integer" else np.float64)
     h = walker.fields(problem, sigma)
     state = np.array([seed | 1], dtype=np.uint64)
-    done, chunk, moves = 0, FIRST_CHUNK, 0
+    fixed = walker.kind == "blocks"
+    done, chunk, moves = 0, walker.visit if fixed else FIRST_CHUNK, 0
     while done < betas.size:
         t0 = time.perf_counter()
         moves += walker.walk(h, sigma, betas[done:done + chunk], state)
         done = min(done + chunk, betas.size)
         if ctx.should_stop():
             return sigma.astype(np.int8), moves, done, done < betas.size
-        if time.perf_counter() - t0 < CHUNK_SECONDS:
+        if not fixed and time.perf_counter() - t0 < CHUNK_SECONDS:
             chunk *= 2
     return sigma.astype(np.int8), moves, done, False
 
@@ -136,8 +143,12 @@ def run_polish(problem: CanonicalProblem, starts: list[tuple[np.ndarray, float]]
     Without a time limit ``plan.rounds`` rounds run (1 when None).  With one, rounds go on while
     the time left fits another round of the length measured so far (``plan.rounds`` caps them).
     """
+    from spinward.core.canonical import row_blocks
     from spinward.plugins.common.flips import local_search
 
+    from .distributed import block_local_search
+
+    climb = block_local_search if row_blocks(problem.K) is not None else local_search
     best_sigma, best_value = max(starts, key=lambda s: s[1])
     out = PolishOutcome(best_sigma, best_value)
     betas = schedule(plan)
@@ -147,7 +158,7 @@ def run_polish(problem: CanonicalProblem, starts: list[tuple[np.ndarray, float]]
         round_start = time.perf_counter()
         seed = int(ctx.rng.integers(1, 2**62))
         end, moves, sweeps, stopped = walk_round(problem, walker, starts[r % len(starts)][0], betas, seed, ctx)
-        sigma, value = local_search(problem, end)
+        sigma, value = climb(problem, end)
         out.round_values.append(value)
         out.moves, out.sweeps = out.moves + moves, out.sweeps + sweeps
         if value > out.value:
@@ -163,12 +174,17 @@ def run_polish(problem: CanonicalProblem, starts: list[tuple[np.ndarray, float]]
 
 
 def make_walker(problem: CanonicalProblem, couplings: tuple[Any, ...], std: float, precision: str,
-                budget: int) -> Walker:
+                budget: int, visit: int = 1) -> Walker:
     """The fastest accurate walker: integer copy ("auto", when it qualifies), else the float couplings.
 
     ``couplings`` is the float working copy (dense: (K,), sparse: CSR parts); ``std`` the
-    couplings' standard deviation; ``budget`` the bytes an integer copy may take.
+    couplings' standard deviation; ``budget`` the bytes an integer copy may take.  Row blocks
+    held elsewhere (core RowBlocks) are walked where they live, ``visit`` sweeps per visit.
     """
+    from spinward.core.canonical import row_blocks
+
+    if row_blocks(problem.K) is not None:
+        return Walker("blocks", (problem.K,), visit=visit)
     if problem.kind == "sparse":
         return Walker("csr", couplings)
     if precision == "auto" and not isinstance(problem.K, np.memmap):
@@ -186,6 +202,8 @@ def walker_precision(walker: Walker) -> str:
         return f"{np.dtype(walker.couplings[0].dtype).name} couplings, exact integer fields"
     if walker.kind == "csr":
         return "sparse float64 couplings"
+    if walker.kind == "blocks":
+        return "row blocks where they live (float64 local fields)"
     return f"{np.dtype(walker.couplings[0].dtype).name} couplings"
 
 
