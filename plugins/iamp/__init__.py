@@ -3,8 +3,10 @@
 Canonical sense: maximise C(σ) = ½σᵀKσ + bᵀσ + k₀.  The couplings are normalised to the
 mean-field scale of docs/conventions.md, A = (K − m(11ᵀ − I)) / (s√n), so that on dense
 mean-zero i.i.d.-like couplings max ½σᵀAσ ≈ n·P* (P* ≈ 0.7632) and IAMP provably reaches
-(1 − ε)·P* (arXiv:1812.10897).  Fields are absorbed by one extra spin (with a warning: the
-guarantee no longer applies).
+(1 − ε)·P* (arXiv:1812.10897).  Fields enter through the Parisi formula with their empirical
+law, and IAMP runs in two phases, root finding then increments (plugins/iamp/fields.py;
+El Alaoui, Montanari & Sellke, arXiv:2001.00904); option ``fields="ghost"`` instead absorbs
+them by one extra spin (with a warning: the guarantee no longer applies).
 
 Three stages, each reported on its own in the result's info (``stages``):
 1. IAMP: ``solutions`` runs, each rounded by sign (the state the guarantee is about);
@@ -34,7 +36,8 @@ from __future__ import annotations
 
 import math
 import time
-from dataclasses import replace
+from collections.abc import Callable
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -46,9 +49,10 @@ from spinward.core.statistics import CouplingStats
 from spinward.core.statistics import _from_sums as from_power_sums  # the core's one moment formula
 
 from . import diagnostics as diag
-from .message_passing import Matvec, iamp, normalised, raw_matvec, with_ghost
+from .message_passing import Matvec, find_root, iamp, normalised, raw_matvec, with_ghost
 from .polish import PolishOutcome, PolishPlan, auto_betas, make_walker, run_polish, scale_of, walker_precision
-from .prediction import MIN_PREDICTION_N, fit, fluctuation_e, prediction
+from .fields import ROOT_ITERATIONS, energy_per_spin, field_tables
+from .prediction import MIN_PREDICTION_N, fit, fluctuation_e, mean_part, prediction
 
 OPTIONS: dict[str, Any] = {
     "solutions": "auto",     # independent IAMP runs sharing one Parisi solution; the best is returned
@@ -64,12 +68,26 @@ OPTIONS: dict[str, Any] = {
     "polish_betas": "auto",  # β of the polish, first and last sweep, in units of A (T_c = 1 for SK); see polish.py
     "precision": "auto",     # "auto": float32 matvecs, int16 polish; "float32"; "float64"
     "block_visit_sweeps": 1,  # couplings in row blocks on a cluster: polish sweeps per visit of a block
+    "fields": "parisi",      # fields: "parisi" (the Parisi formula with their law, two-phase IAMP) or "ghost"
 }
+FIELD_MODES = ("parisi", "ghost")
 #: "auto" runs: as many as cost one run at this size (a run costs ∝ n²), at most AUTO_MAX_RUNS
 AUTO_REFERENCE_N = 2000
 AUTO_MAX_RUNS = 4
 #: bytes the polish's integer copy of K may take
 INTEGER_COPY_LIMIT = 1 << 30
+
+
+@dataclass(frozen=True)
+class Drive:
+    """What drives every IAMP run: the Parisi tables, the start (the root-finding phase with fields), P."""
+
+    tables: Any
+    cached: bool
+    value: float                 # the Parisi value the tables come from (P_k, or P*(μ) with fields)
+    start: tuple[np.ndarray, np.ndarray] | None
+    with_fields: bool            # e counts the fields' term (the Parisi field mode)
+    info: dict[str, Any]
 
 
 def _int_option(ctx: SolveContext, name: str, low: int, high: int) -> int:
@@ -118,8 +136,9 @@ def working_precision(problem: CanonicalProblem, ctx: SolveContext) -> tuple[tup
     return working_couplings(problem, precision, "iamp"), dtype
 
 
-def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext) -> tuple[CouplingStats, list[str]]:
-    """Moments of K's off-diagonal entries (the core's, exact); with fields, of the ghost-augmented matrix."""
+def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext,
+                   ghost: bool = False) -> tuple[CouplingStats, list[str]]:
+    """Moments of K's off-diagonal entries (the core's, exact); with ``ghost``, of the ghost-augmented matrix."""
     notes: list[str] = []
     blocks = row_blocks(problem.K)
     if blocks is not None:  # every entry read where it lives: exact
@@ -130,7 +149,7 @@ def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext) ->
                                            None if std is None else float(std))
     else:
         stats = diag.exact_stats(problem)
-    if problem.has_fields:
+    if ghost:
         stats = _with_ghost_stats(stats, problem.b)
     return stats, notes
 
@@ -171,7 +190,7 @@ def _polish_plan(ctx: SolveContext, stats: CouplingStats) -> PolishPlan | None:
     return PolishPlan(sweeps, None if rounds == "auto" else int(rounds), (lo, hi), scale_of(stats.std, stats.n))
 
 
-def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx: SolveContext,
+def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, drive: Drive, ctx: SolveContext,
              project: int) -> dict[str, Any]:
     """One IAMP run, rounded by sign and cleaned by a greedy climb on the true problem."""
     from spinward.plugins.common.flips import local_search
@@ -179,7 +198,7 @@ def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx:
     from .distributed import block_local_search
 
     start = time.perf_counter()
-    res = iamp(A, n_eff, tables, ctx.rng, project=project, should_stop=ctx.should_stop)
+    res = iamp(A, n_eff, drive.tables, ctx.rng, project=project, should_stop=ctx.should_stop, start=drive.start)
     seconds = time.perf_counter() - start
     rounded = _sign(res.m)
     if n_eff > problem.n:  # ghost spin last: undo the gauge
@@ -215,19 +234,44 @@ def _polish_runs(problem: CanonicalProblem, runs: list[dict], couplings: tuple[A
     return outcome
 
 
-def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
-    """IAMP runs (``solutions`` of them) sharing one Parisi solution, cleaned, then polished; the best is returned."""
+def _field_mode(problem: CanonicalProblem, ctx: SolveContext) -> str:
+    """"none" without fields, else the ``fields`` option ("parisi" or "ghost")."""
+    mode = ctx.option("fields", OPTIONS["fields"])
+    if mode not in FIELD_MODES:
+        raise InputError(f"option 'fields' must be 'parisi' or 'ghost', got {mode!r}")
+    return str(mode) if problem.has_fields else "none"
+
+
+def _drive(problem: CanonicalProblem, A: Matvec, stats: CouplingStats, mode: str, steps: int,
+           ctx: SolveContext) -> Drive:
+    """The tables (and, with fields, the root-finding phase's state) that drive every run."""
     from .parisi import load_tables
 
+    k = _int_option(ctx, "parisi_k", 1, 200)
+    if mode != "parisi":
+        tables, cached = load_tables(k, steps)
+        return Drive(tables, cached, tables.value, None, False, {"mode": mode} if mode != "none" else {})
+    h = np.asarray(problem.b, dtype=np.float64) / scale_of(stats.std, stats.n)
+    ft = field_tables(h, k, steps)
+    x, m, change = find_root(A, h, ft.tables.x, ft.tables.d1[0], ft.tables.d2[0], ROOT_ITERATIONS, ctx.should_stop)
+    info = {"mode": "parisi", "parisi_value": ft.value, "q_min": ft.q_min, "root_time": ft.root_time,
+            "root_iterations": ROOT_ITERATIONS, "root_last_change": change,
+            "normalised_field_mean": float(h.mean()), "normalised_field_rms": float(np.sqrt(np.mean(h * h)))}
+    return Drive(ft.tables, ft.cached, ft.value, (x, m), True, info)
+
+
+def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    """IAMP runs (``solutions`` of them) sharing one Parisi solution, cleaned, then polished; the best is returned."""
     runs_wanted = _runs_wanted(ctx, problem.n)
     steps = int(round(1.0 / _delta(ctx)))
     project = _int_option(ctx, "project", 0, 16)
+    mode = _field_mode(problem, ctx)
     _polish_plan(ctx, CouplingStats(1, 0, 0.0, 1.0, 0.0, 1.0, None, 0.0))  # bad options fail before any work
     couplings, dtype = working_precision(problem, ctx)
     raw = raw_matvec(couplings[0] if problem.kind == "dense" else problem.K, problem.kind, dtype)
-    if problem.has_fields:
+    if mode == "ghost":
         raw = with_ghost(raw, np.asarray(problem.b, dtype=np.float64))
-    stats, stat_notes = coupling_stats(problem, raw, ctx)
+    stats, stat_notes = coupling_stats(problem, raw, ctx, ghost=mode == "ghost")
     n_eff = stats.n
     if problem.n < 2 or stats.std == 0:
         from spinward.plugins.common.flips import local_search
@@ -237,24 +281,31 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
         return Solution(sigma=sigma, info={"eligible": False})
     A = normalised(raw, stats.mean, stats.std)
     edges = _edges(A, n_eff, ctx)
-    notes, eligible = diag.findings(stats, edges, problem.has_fields, stat_notes)
+    notes, eligible = diag.findings(stats, edges, mode == "ghost", stat_notes)
     for note in notes:
         ctx.warn(note)
-    tables, cached = load_tables(_int_option(ctx, "parisi_k", 1, 200), steps)
+    drive = _drive(problem, A, stats, mode, steps, ctx)
     runs = []
     for _ in range(runs_wanted):
-        runs.append(_one_run(problem, A, n_eff, tables, ctx, project))
+        runs.append(_one_run(problem, A, n_eff, drive, ctx, project))
         if ctx.should_stop():
             break
     polished = _polish_runs(problem, runs, couplings, stats, ctx)
     best = dict(max(runs, key=lambda r: r["value"]))
     if polished is not None and polished.value > best["value"]:
         best["sigma"], best["value"] = polished.sigma, polished.value
-    info = _info(problem, stats, edges, eligible, tables, cached, runs, best, polished)
+    info = _info(problem, stats, edges, eligible, drive, runs, best, polished)
     return Solution(sigma=best["sigma"], info=info)
 
 
-def _stages(problem: CanonicalProblem, stats: CouplingStats, runs: list[dict], best: dict,
+def energy(problem: CanonicalProblem, stats: CouplingStats, drive: Drive, sigma: np.ndarray, value: float) -> float:
+    """e of docs/conventions.md: the fluctuation part per s·n^{3/2}; with the Parisi field mode the fields' term too."""
+    if drive.with_fields:
+        return energy_per_spin(value, problem.k0, mean_part(stats.mean, sigma, problem.n), stats.std, problem.n)
+    return fluctuation_e(problem, sigma, value, stats)
+
+
+def _stages(problem: CanonicalProblem, e: Callable[[np.ndarray, float], float], runs: list[dict], best: dict,
             polished: PolishOutcome | None) -> dict[str, Any]:
     """Seconds and gain of each stage: IAMP (rounded), clean-up (greedy), polish (re-anneal rounds).
 
@@ -264,8 +315,7 @@ def _stages(problem: CanonicalProblem, stats: CouplingStats, runs: list[dict], b
     rounded state.
     """
     top = max(runs, key=lambda r: r["cleaned_value"])
-    e_rounded = fluctuation_e(problem, top["rounded"], top["rounded_value"], stats)
-    e_cleaned = fluctuation_e(problem, top["cleaned"], top["cleaned_value"], stats)
+    e_rounded, e_cleaned = e(top["rounded"], top["rounded_value"]), e(top["cleaned"], top["cleaned_value"])
     stages: dict[str, Any] = {
         "iamp": {"seconds": sum(r["seconds"] for r in runs), "runs": len(runs), "value": top["rounded_value"],
                  "energy_per_spin": e_rounded},
@@ -273,12 +323,11 @@ def _stages(problem: CanonicalProblem, stats: CouplingStats, runs: list[dict], b
                      "gain": top["cleaned_value"] - top["rounded_value"], "gain_per_spin": e_cleaned - e_rounded},
     }
     if polished is not None:
-        e_final = fluctuation_e(problem, best["sigma"], best["value"], stats)
         stages["polish"] = {"seconds": polished.seconds, "rounds": len(polished.round_values),
                             "sweeps": polished.sweeps, "moves": polished.moves, "stopped_early": polished.stopped,
                             "precision": polished.precision, "betas": list(polished.betas),
-                            "round_values": polished.round_values,
-                            "gain": best["value"] - top["cleaned_value"], "gain_per_spin": e_final - e_cleaned}
+                            "round_values": polished.round_values, "gain": best["value"] - top["cleaned_value"],
+                            "gain_per_spin": e(best["sigma"], best["value"]) - e_cleaned}
     return stages
 
 
@@ -287,30 +336,48 @@ GUARANTEE_NOTE = ("the IAMP guarantee ((1 − ε)·P* as n → ∞, on mean-fiel
                   "without a guarantee of their own")
 
 
-def _info(problem: CanonicalProblem, stats: CouplingStats, edges: Any, eligible: bool, tables: Any,
-          cached: bool, runs: list[dict], best: dict, polished: PolishOutcome | None) -> dict[str, Any]:
+def _info(problem: CanonicalProblem, stats: CouplingStats, edges: Any, eligible: bool, drive: Drive,
+          runs: list[dict], best: dict, polished: PolishOutcome | None) -> dict[str, Any]:
+    def e(sigma: np.ndarray, value: float) -> float:
+        return energy(problem, stats, drive, sigma, value)
+
     top = max(runs, key=lambda r: r["cleaned_value"])
     info: dict[str, Any] = {
         "eligible": eligible, "coupling_mean": stats.mean, "coupling_std": stats.std,
         "density": stats.density if stats.exact else None, "excess_kurtosis": stats.excess_kurtosis,
         "scale_exact": stats.exact,
-        "spectrum_edges": edges, "parisi_cached": cached, "iterations": top["steps"],
+        "spectrum_edges": edges, "parisi_cached": drive.cached, "iterations": top["steps"],
         "iamp_seconds": [r["seconds"] for r in runs], "iamp_matvec_seconds": [r["matvec_seconds"] for r in runs],
         "stopped_early": any(r["stopped"] for r in runs) or bool(polished and polished.stopped),
-        "energy_per_spin_rounded": fluctuation_e(problem, top["rounded"], top["rounded_value"], stats),
-        "energy_per_spin_cleaned": fluctuation_e(problem, top["cleaned"], top["cleaned_value"], stats),
-        "energy_per_spin": fluctuation_e(problem, best["sigma"], best["value"], stats),
+        "energy_per_spin_rounded": e(top["rounded"], top["rounded_value"]),
+        "energy_per_spin_cleaned": e(top["cleaned"], top["cleaned_value"]),
+        "energy_per_spin": e(best["sigma"], best["value"]),
         "polish_seconds": polished.seconds if polished is not None else 0.0,
-        "energy_per_spin_runs": [fluctuation_e(problem, r["cleaned"], r["cleaned_value"], stats) for r in runs],
-        "stages": _stages(problem, stats, runs, best, polished),
+        "energy_per_spin_runs": [e(r["cleaned"], r["cleaned_value"]) for r in runs],
+        "stages": _stages(problem, e, runs, best, polished),
         "guarantee": GUARANTEE_NOTE,
     }
+    if drive.info:
+        info["fields"] = drive.info
     if eligible and problem.n >= MIN_PREDICTION_N:
-        info.update(prediction(problem, stats, tables.value, best))
+        if drive.with_fields:
+            info.update(field_prediction(problem, stats, drive.value, best, info["energy_per_spin"]))
+        else:
+            info.update(prediction(problem, stats, drive.value, best))
     if len(runs) > 1:
         S = np.stack([r["cleaned"] for r in runs]).astype(np.float64)
         info["overlaps"] = (S @ S.T / problem.n).round(6).tolist()
     return info
+
+
+def field_prediction(problem: CanonicalProblem, stats: CouplingStats, pstar: float, best: dict,
+                     e_best: float) -> dict[str, Any]:
+    """P*(μ) in canonical units: s·n^{3/2}·P*(μ) + k₀ + the mean part of the returned state (it is not predicted)."""
+    n = problem.n
+    return {"predicted_optimum": stats.std * n**1.5 * pstar + problem.k0 + mean_part(stats.mean, best["sigma"], n),
+            "fraction_of_prediction": e_best / pstar, "parisi_value": pstar,
+            "prediction_note": "the Parisi formula with the fields' empirical law (fields independent of the "
+                               "couplings); the couplings' mean part is that of the returned state"}
 
 
 SPEC = SolverSpec(
@@ -318,7 +385,8 @@ SPEC = SolverSpec(
     run=run,
     capabilities=Capabilities(fields=True, dense=True, sparse=True, operator=True, stochastic=True,
                               assumptions=(MEAN_FIELD_ASSUMPTION,
-                                           "no fields (else one extra spin absorbs them, without guarantee)")),
+                                           "fields independent of the couplings (they enter through the Parisi "
+                                           "formula with their law)")),
     summary="IAMP driven by the zero-temperature Parisi solution, greedy clean-up, then low-temperature re-annealing",
     options=OPTIONS,
     fit=fit,

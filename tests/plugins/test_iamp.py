@@ -134,12 +134,12 @@ def test_sparse_graph_gets_the_assumption_warning():
     assert cut == pytest.approx(problem.value(sol.sigma))
 
 
-def test_fields_use_a_ghost_spin_and_warn():
+def test_fields_use_a_ghost_spin_on_request_and_warn():
     n = 300
     rng = np.random.default_rng(4)
     problem = sk_problem(sk_couplings(n, 4))
     problem = CanonicalProblem(problem.K, 0.3 * rng.standard_normal(n))
-    ctx = SolveContext(rng=np.random.default_rng(0), options={**FAST, "delta": 0.01})
+    ctx = SolveContext(rng=np.random.default_rng(0), options={**FAST, "delta": 0.01, "fields": "ghost"})
     with pytest.warns(AssumptionWarning, match="fields"):
         sol = SPEC.run(problem, ctx)
     assert sol.sigma.shape == (n,)
