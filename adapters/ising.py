@@ -64,7 +64,7 @@ class Ising(CachedForm):
         self._terms: dict[Any, Any] | None = {k: v for k, v in J.items() if k[0] != k[1]}
         self._fields = {k: check_number(v, f"h[{k!r}]") for k, v in h_dict.items()}
         self._labels = tuple(first_appearance([*self._fields, *(v for key in self._terms for v in key)]))
-        M = dict_to_matrix(self._terms, self._labels, "J")
+        M = dict_to_matrix(self._terms, self._labels, "J", unordered=True)
         self.pairs = M + M.T
         self.h = np.array([self._fields.get(label, 0.0) for label in self._labels])
 
@@ -136,6 +136,13 @@ class Ising(CachedForm):
 
     def _coefficients(self) -> tuple[Any, ...]:
         return self.pairs, self.h, self.offset
+
+    def phrase(self, topic: str, values: dict[str, float]) -> str | None:
+        if topic != "mean-part":
+            return None
+        mean = -abs(values["mean"] * values["scale"])  # canonical K = J
+        return (f"the couplings have an antiferromagnetic mean ({mean:.4g} per pair): this rank-one part favours "
+                f"states with zero magnetisation")
 
     def evaluate(self, values: np.ndarray) -> float:
         """E(s) from the caller's terms (dicts summed directly, matrices as pair sums)."""

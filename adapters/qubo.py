@@ -71,6 +71,13 @@ class QUBO(CachedForm):
     def _coefficients(self) -> tuple[Any, ...]:
         return self.Q, self.offset
 
+    def phrase(self, topic: str, values: dict[str, float]) -> str | None:
+        if topic != "mean-part":
+            return None
+        pair = 4 * abs(values["mean"] * values["scale"])  # canonical K = −(Q + Qᵀ)/4 off the diagonal
+        return (f"the QUBO's off-diagonal entries have a positive mean ({pair:.4g} per pair, Q_ij + Q_ji): this "
+                f"rank-one part favours assignments with about as many 1s as 0s")
+
     def evaluate(self, values: np.ndarray) -> float:
         """xᵀQx + offset from the caller's own Q (dict terms summed directly)."""
         x = np.asarray(values, dtype=np.float64)

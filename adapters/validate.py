@@ -12,7 +12,7 @@ from typing import Any, Hashable, Iterable, Sequence
 
 import numpy as np
 
-from spinward.core.canonical import is_sparse
+from spinward.core.canonical import ROW_BLOCK, is_sparse
 from spinward.core.errors import InputError, ResourceError
 
 #: largest integer magnitude a float64 holds exactly
@@ -22,37 +22,116 @@ RESCALE_ABOVE, RESCALE_BELOW = 2.0**64, 2.0**-64
 
 
 def as_real_matrix(data: Any, name: str) -> Any:
-    """A square real 2-D ndarray or CSR matrix; rejects ragged, complex, object, NaN/inf."""
-    if is_sparse(data):
-        import scipy.sparse as sp
+    """A square real 2-D ndarray or CSR matrix; rejects ragged, complex, object, NaN/inf.
 
-        m = sp.csr_array(data)
-        _check_dtype(m.dtype, name)
-        _check_square(m.shape, name)
-        m = sp.csr_array(m, dtype=np.float64) if m.dtype != np.float64 else m.copy()
-        m.sum_duplicates()
-        _check_finite_sparse(m, name)
-        return m
+    Integer data is checked against 2**53 (the last integer float64 holds exactly) before
+    any conversion, and duplicate sparse entries are summed in float64 only after a range
+    check proves the sum exact.  A dense input's size is checked before anything of its
+    size is allocated.
+    """
+    if is_sparse(data):
+        return _as_real_sparse(data, name)
     arr = _to_ndarray(data, name)
     _check_square(arr.shape, name)
+    if not isinstance(arr, np.memmap):  # a memmap is never copied here; the forms check before they copy
+        check_dense_memory(arr.shape[0])
+    arr = _exact_float(arr, name)
     _check_finite_dense(arr, name)
     return arr
 
 
+def _as_real_sparse(data: Any, name: str) -> Any:
+    import scipy.sparse as sp
+
+    _check_dtype(data.dtype, name)
+    _check_square(data.shape, name)
+    coo = sp.coo_array(data)  # duplicates kept: they are summed below, after the range check
+    if coo.dtype.kind in "biu":
+        _check_integers(coo.data, name, lambda k: (int(coo.row[k]), int(coo.col[k])))
+    values = np.asarray(coo.data, dtype=np.float64)
+    at = inexact_sum(coo.row, coo.col, values, coo.shape)
+    if at is not None:
+        raise InputError(f"{name}[{at[0]}, {at[1]}]: its duplicate entries add up to 2**53 or more in magnitude, "
+                         f"where float64 is no longer exact; sum them yourself or divide the data by a common factor")
+    m = sp.csr_array((values, (coo.row, coo.col)), shape=coo.shape)
+    m.sum_duplicates()
+    _check_finite_sparse(m, name)
+    return m
+
+
+def inexact_sum(rows: np.ndarray, cols: np.ndarray, values: np.ndarray, shape: tuple[int, int]) -> tuple[int, int] | None:
+    """The (row, col) of integer data whose duplicate entries add up to 2**53 or more in magnitude, else None.
+
+    Integers up to 2**53 are exact in float64, and so is every partial sum while Σ|duplicates|
+    stays below 2**53: only beyond that would float64 round a sum.  Data that is not all
+    integers of at most 2**53 gives None (rounding floats is the caller's to accept).
+    """
+    with np.errstate(over="ignore", invalid="ignore"):
+        total = float(np.abs(values).sum()) if values.size >= 2 else 0.0
+    if not total >= EXACT_INT / 2:  # the float sum's error is far below a factor of two
+        return None
+    finite = values[np.isfinite(values)]
+    if finite.size != values.size or float(np.abs(finite).max()) > EXACT_INT or np.any(finite != np.round(finite)):
+        return None
+    import scipy.sparse as sp
+
+    span = sp.csr_array((np.abs(values), (rows, cols)), shape=shape)
+    span.sum_duplicates()  # rounding is monotone: a true sum of 2**53 or more never comes out below it
+    if span.nnz and float(span.data.max()) >= EXACT_INT:
+        return _entry_of(span, int(np.argmax(span.data)))
+    return None
+
+
+def _entry_of(m: Any, k: int) -> tuple[int, int]:
+    """(row, column) of stored entry k of a CSR matrix."""
+    row = int(np.searchsorted(m.indptr, k, side="right") - 1)
+    return row, int(m.indices[k])
+
+
+def _check_integers(values: np.ndarray, name: str, where: Any) -> None:
+    """Refuse integers beyond ±2**53 (no abs(): it overflows at the int64 minimum)."""
+    if values.size == 0 or values.dtype.kind not in "iu":
+        return
+    if int(values.max()) <= EXACT_INT and int(values.min()) >= -EXACT_INT:
+        return
+    k = int(np.flatnonzero((values > EXACT_INT) | (values < -EXACT_INT))[0])
+    at = where(k)
+    index = ", ".join(map(str, at)) if isinstance(at, tuple) else str(at)
+    raise InputError(f"{name}[{index}] = {int(values[k])} is beyond 2**53, where float64 is no longer exact; "
+                     f"divide by a common factor, or pass floats if rounding is acceptable")
+
+
 def _to_ndarray(data: Any, name: str) -> np.ndarray:
-    if isinstance(data, np.ndarray):
+    """A plain ndarray (a memmap stays one; np.matrix and other subclasses become plain arrays)."""
+    if isinstance(data, np.memmap) or type(data) is np.ndarray:
         arr = data
     else:
         try:
             arr = np.asarray(data)
         except (ValueError, TypeError) as exc:
             raise InputError(f"{name} must be a rectangular array of numbers; it looks ragged ({exc})") from None
+    if arr.dtype.kind == "O":
+        _check_object_integers(arr, name)
     _check_dtype(arr.dtype, name)
+    return arr
+
+
+def _check_object_integers(arr: np.ndarray, name: str) -> None:
+    """Python integers too large for int64 make numpy fall back to object arrays: name the first one."""
+    for k, x in enumerate(arr.flat):
+        if isinstance(x, (int, np.integer)) and not isinstance(x, bool) and abs(int(x)) > EXACT_INT:
+            where = ", ".join(map(str, np.unravel_index(k, arr.shape)))
+            raise InputError(f"{name}[{where}] = {int(x)} is beyond 2**53, where float64 is no longer exact; "
+                             f"divide by a common factor, or pass floats if rounding is acceptable")
+
+
+def _exact_float(arr: np.ndarray, name: str) -> np.ndarray:
+    """float32/float64 as given; integers and booleans as float64 after the 2**53 check."""
     if arr.dtype.kind in "iu":
-        big = int(np.abs(arr).max()) if arr.size else 0
-        if big > EXACT_INT:
-            raise InputError(f"{name} holds integers up to {big}, beyond 2**53 where float64 is no longer exact; "
-                             f"divide by a common factor or pass floats if rounding is acceptable")
+        width = arr.shape[1] if arr.ndim == 2 else 1
+        for start in range(0, arr.shape[0], ROW_BLOCK):  # row blocks: no temporary of the array's size
+            block = np.asarray(arr[start:start + ROW_BLOCK]).reshape(-1)
+            _check_integers(block, name, lambda k: (start + k // width, k % width) if arr.ndim == 2 else start + k)
     if arr.dtype not in (np.float32, np.float64):
         arr = arr.astype(np.float64)
     return arr
@@ -73,13 +152,13 @@ def _check_square(shape: Sequence[int], name: str) -> None:
 
 
 def _check_finite_dense(arr: np.ndarray, name: str) -> None:
-    """Every entry finite; read in row blocks, so a memmap is never loaded whole (no n² temporary)."""
-    rows = max(1, TILE * TILE // max(arr.shape[1] if arr.ndim == 2 else 1, 1))
-    for start in range(0, arr.shape[0], rows):
-        bad = ~np.isfinite(arr[start:start + rows])
+    """In row blocks, so no n² temporary of booleans is made."""
+    for start in range(0, arr.shape[0], ROW_BLOCK):
+        block = arr[start:start + ROW_BLOCK]
+        bad = ~np.isfinite(block)
         if bad.any():
             i, j = (int(v) for v in np.argwhere(bad)[0])
-            raise InputError(f"{name}[{start + i}, {j}] is {float(arr[start + i, j])}; every entry must be finite")
+            raise InputError(f"{name}[{start + i}, {j}] is {float(block[i, j])}; every entry must be finite")
 
 
 #: side of the square tiles in which dense checks read a matrix (a 1024² float64 tile is 8 MiB)
@@ -101,9 +180,9 @@ def dense_tiles(n: int, size: int | None = None) -> Iterable[tuple[slice, slice]
 def _check_finite_sparse(m: Any, name: str) -> None:
     bad = ~np.isfinite(m.data)
     if bad.any():
-        coo = m.tocoo()
-        k = int(np.flatnonzero(~np.isfinite(coo.data))[0])
-        raise InputError(f"{name}[{int(coo.row[k])}, {int(coo.col[k])}] is {float(coo.data[k])}; every entry must be finite")
+        i, j = _entry_of(m, int(np.flatnonzero(bad)[0]))
+        raise InputError(f"{name}[{i}, {j}] is {float(m[i, j])} (after adding up duplicate entries, if any); "
+                         f"every entry must be finite")
 
 
 def check_number(value: Any, what: str) -> float:
@@ -120,7 +199,10 @@ def check_number(value: Any, what: str) -> float:
 
 def as_vector(data: Any, n: int, name: str) -> np.ndarray:
     """A length-n finite float64 vector."""
-    arr = _to_ndarray(data, name).astype(np.float64, copy=False)
+    arr = _to_ndarray(data, name)
+    if arr.shape != (n,):
+        raise InputError(f"{name} must have shape ({n},), got {arr.shape}")
+    arr = _exact_float(arr, name).astype(np.float64, copy=False)
     if arr.shape != (n,):
         raise InputError(f"{name} must have shape ({n},), got {arr.shape}")
     bad = ~np.isfinite(arr)
@@ -140,6 +222,14 @@ def power_of_two_scale(*magnitudes: float) -> float:
     if big == 0.0 or RESCALE_BELOW <= big <= RESCALE_ABOVE:
         return 1.0
     return math.ldexp(1.0, math.frexp(big)[1])
+
+
+def correctly_rounded_sum(values: np.ndarray) -> float:
+    """Σ values rounded once (math.fsum); ±inf when the sum leaves float64 range."""
+    try:
+        return math.fsum(values.tolist())
+    except OverflowError:  # an intermediate sum passed float64's range
+        return math.copysign(math.inf, float(np.sum(values, dtype=np.float64)))
 
 
 def check_total(total: float, what: str) -> None:
@@ -189,8 +279,12 @@ def dense_solve_estimate(n: int) -> int:
 
 
 def memory_limit() -> int:
-    """Bytes the dense paths may assume free: $SPINWARD_MEMORY_LIMIT, else 80% of MemAvailable."""
-    return int(os.environ.get("SPINWARD_MEMORY_LIMIT", 0)) or int(0.8 * available_memory())
+    """Bytes the dense paths may assume are free: SPINWARD_MEMORY_LIMIT, else 80% of MemAvailable."""
+    raw = os.environ.get("SPINWARD_MEMORY_LIMIT", "")
+    try:
+        return int(raw) if raw else int(0.8 * available_memory())
+    except ValueError:
+        raise InputError(f"SPINWARD_MEMORY_LIMIT must be an integer number of bytes, got {raw!r}") from None
 
 
 def check_dense_memory(n: int, copies: int | None = None, itemsize: int = 8,

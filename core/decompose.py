@@ -44,9 +44,11 @@ def connected_components(problem: CanonicalProblem) -> list[np.ndarray]:
         return []
     if problem.kind == "operator":
         return [np.arange(n, dtype=np.int64)]
-    from scipy.sparse.csgraph import connected_components as cc
+    labels = problem.meta.get("_component_labels")  # left by the profile, which finds them anyway
+    if labels is None:
+        from scipy.sparse.csgraph import connected_components as cc
 
-    _, labels = cc(_pattern(problem), directed=False)
+        _, labels = cc(_pattern(problem), directed=False)
     order = np.argsort(labels, kind="stable")  # stable: indices ascending inside each label
     splits = np.flatnonzero(np.diff(labels[order])) + 1
     parts = np.split(order.astype(np.int64), splits)

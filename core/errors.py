@@ -37,6 +37,14 @@ class ResourceError(SpinwardError, MemoryError):
     """The problem is too large for the requested path (memory, size limit)."""
 
 
+class MissingDependencyError(SpinwardError, ImportError):
+    """An optional feature needs a package that is not installed; the message names the extra to install."""
+
+
+class InternalError(SpinwardError):
+    """Something went wrong inside spinward or a plugin, not in the caller's input: please report it."""
+
+
 class SpinwardWarning(UserWarning):
     """Base of the project's warnings."""
 

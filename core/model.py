@@ -55,6 +55,49 @@ class ProblemForm(ABC):
         """
         return None
 
+    def state_from(self, state: Any, what: str = "initial") -> np.ndarray:
+        """Canonical spins for a state given in the caller's terms.
+
+        ``state`` is a dict keyed by every label, an array in the form's own values (0/1 for
+        QUBO and MaxCut sides, ±1 for Ising) in label order, or a previous ``Result`` of this
+        problem.  Anything else, a wrong length, an unknown label or a value outside the
+        domain is an InputError naming what was expected.
+        """
+        from .errors import InputError
+
+        labels = self.labels
+        if hasattr(state, "assignment") and hasattr(state, "array"):
+            state = state.assignment
+        if isinstance(state, dict):
+            known = set(labels)
+            missing = [label for label in labels if label not in state][:1]
+            extra = [key for key in state if key not in known][:1]
+            if missing or extra:
+                bad = f"no value for label {missing[0]!r}" if missing else f"unknown label {extra[0]!r}"
+                raise InputError(f"{what}: {bad}; give a value for each of the {len(labels)} labels of this "
+                                 f"{self.form} problem")
+            values = np.array([state[label] for label in labels], dtype=object)
+        else:
+            try:
+                values = np.asarray(state, dtype=object).reshape(-1) if not np.isscalar(state) else None
+            except (TypeError, ValueError):
+                values = None
+            if values is None or np.asarray(state, dtype=object).ndim != 1 or values.size != len(labels):
+                raise InputError(f"{what}: expected {len(labels)} values (one per variable, in label order) or a "
+                                 f"dict keyed by label, got {state!r:.80}")
+        return self._encode_checked(values, what)
+
+    def _encode_checked(self, values: np.ndarray, what: str) -> np.ndarray:
+        from .errors import InputError
+
+        up, down = self.domain
+        for k, v in enumerate(values.tolist()):
+            if isinstance(v, bool) or not isinstance(v, (int, float, np.integer, np.floating)) or v not in (up, down):
+                low, high = sorted((up, down))
+                raise InputError(f"{what}: value {v!r} for {self.labels[k]!r} is not one of {low} and {high} "
+                                 f"(the values of a {self.form} variable)")
+        return np.where(np.asarray(values.tolist(), dtype=np.float64) == up, 1, -1).astype(np.int8)
+
     def constraint_report(self, values: np.ndarray) -> list[dict[str, Any]] | None:
         """Each constraint's status for ``values`` (caller domain, canonical index order), in the caller's labels.
 
@@ -70,6 +113,14 @@ class ProblemForm(ABC):
         repaired; ``should_stop`` is polled in loops (time limit and Ctrl-C).  The front
         door keeps the repaired state when the state it had violates a constraint, or when
         the repaired one's canonical value is at least as good.
+        """
+        return None
+
+    def phrase(self, topic: str, values: dict[str, float]) -> str | None:
+        """This form's own words for something a solver reports in canonical terms, or None.
+
+        Topics: "mean-part" (``values["mean"]``: the canonical couplings' mean over all pairs,
+        ``values["scale"]``: the canonical scale), the rank-one part that a negative mean adds.
         """
         return None
 

@@ -1,13 +1,15 @@
 """A cheap structural profile of a canonical problem, for dispatch, diagnostics and explanations.
 
-Cost: O(nnz) for the statistics and structure, plus a few Lanczos matvecs for
-the mean-field check on dense inputs; the treewidth heuristic runs only on
-small sparse graphs and only when the degeneracy (a lower bound) is small.
+Cost: O(nnz) for the statistics and structure (a dense K is streamed in row blocks, or
+sampled by rows when a time budget is given), plus a few Lanczos matvecs on a principal
+block of the normalised couplings for dense inputs.  The treewidth heuristic runs only on
+small sparse graphs (the tree-DP solver searches for an elimination order itself).
 
 Conventions (docs/conventions.md, the mean-field scale): m and s are the mean and
-standard deviation of the off-diagonal entries over all pairs, zeros included;
-A = (K − m(11ᵀ − I)) / (s√n) should have its spectrum in [−2, 2] when the
-couplings are dense, mean-zero and i.i.d.-like.
+standard deviation of the off-diagonal entries over all pairs, zeros included; the
+profile reports the top Ritz values of A = (K − m(11ᵀ − I)) / (s√n) and the rank-one
+mean's size m√n/s on the same scale.  What those numbers mean for a particular solver
+is that solver's business (its ``fit`` and ``advise``), not the core's.
 """
 
 from __future__ import annotations
@@ -21,16 +23,15 @@ import numpy as np
 
 from .canonical import CanonicalProblem
 from .spectrum import lanczos_ritz
-from .statistics import CouplingStats, coupling_stats
+from .statistics import FULL_PASS_ENTRIES, CouplingStats, coupling_stats
 
 DENSE_FILL = 0.25          # at least this share of pairs coupled counts as dense
-TREEWIDTH_MAX_NODES = 1000   # the min-degree heuristic costs up to ~1 s at 2000 nodes
+TREEWIDTH_MAX_NODES = 300  # the networkx min-degree treewidth heuristic runs only below this size
 LANCZOS_STEPS = 16
 SPECTRAL_SUBSET = 1500
 SAMPLE = 20_000            # entries sampled for the frustration pre-check
-HEAVY_TAIL_EXCESS_KURTOSIS = 3.0  # above this the couplings count as heavy-tailed (Gaussian 0, ±1 −2)
-TREEWIDTH_GIVE_UP = 24     # degeneracy above this: treewidth is surely too large for tree DP
-SEMICIRCLE_EDGE = 2.0
+READ_RATE = 2e8            # coupling entries a budgeted profile assumes it can read per second
+MIN_SAMPLE_ENTRIES = 1 << 18
 
 
 @dataclass(frozen=True)
@@ -52,12 +53,11 @@ class Profile:
     has_fields: bool
     ferromagnetic: bool          # every K_ij ≥ 0 (canonical sign: favours alignment)
     frustration_free: bool       # a gauge makes every coupling ferromagnetic
-    degeneracy: int | None       # a lower bound on treewidth (⌈m/n⌉ when that alone exceeds the DP limit)
+    degeneracy: int | None       # a lower bound on treewidth (the degeneracy, or ⌈m/n⌉ on large graphs)
     treewidth: int | None        # heuristic upper bound (None when not estimated)
     top_eigenvalues: tuple[float, ...] = ()   # of A (dense inputs only)
     mean_outlier: float = 0.0    # m√n/s: the rank-one part's eigenvalue on the A scale
-    mean_field_score: float = 0.0
-    mean_field_reasons: tuple[str, ...] = ()
+    stats_exact: bool = True     # False: the moments come from a sample of rows
     seconds: float = 0.0
     notes: tuple[str, ...] = field(default_factory=tuple)
 
@@ -65,32 +65,33 @@ class Profile:
     def dense(self) -> bool:
         return self.density >= DENSE_FILL
 
-    @property
-    def mean_field(self) -> bool:
-        """Dense, i.i.d.-like couplings: the regime where the Parisi prediction applies."""
-        return self.mean_field_score >= 0.5
-
     def as_dict(self) -> dict[str, Any]:
         out = asdict(self)
-        out["dense"], out["mean_field"] = self.dense, self.mean_field
+        out["dense"] = self.dense
         return out
 
 
-def profile_of(problem: CanonicalProblem, *, time_budget: float = 2.0) -> Profile:
-    """The problem's profile, computed once and cached on the problem."""
+def profile_of(problem: CanonicalProblem, *, budget: float | None = None) -> Profile:
+    """The problem's profile, computed once and cached on the problem.
+
+    ``budget`` (seconds) caps how much of a large dense K is read for the statistics (a
+    deterministic sample of rows); None reads up to ``FULL_PASS_ENTRIES`` entries.
+    """
     cached = problem.meta.get("_profile")
     if cached is None:
-        cached = _compute(problem, time_budget)
+        cached = _compute(problem, budget)
         problem.meta["_profile"] = cached
     return cached
 
 
-def _compute(problem: CanonicalProblem, budget: float) -> Profile:
+def _compute(problem: CanonicalProblem, budget: float | None) -> Profile:
     t0 = time.perf_counter()
     n = problem.n
     if problem.kind == "operator":
         return _operator_profile(problem, t0)
-    stats = coupling_stats(problem)
+    entries = FULL_PASS_ENTRIES if budget is None else int(min(FULL_PASS_ENTRIES, max(MIN_SAMPLE_ENTRIES,
+                                                                                         budget * READ_RATE)))
+    stats = coupling_stats(problem, max_entries=entries)
     assert stats is not None
     fast = _dense_structure(problem) if problem.kind == "dense" and n > 64 else None
     if fast is not None:
@@ -98,19 +99,19 @@ def _compute(problem: CanonicalProblem, budget: float) -> Profile:
         degeneracy, treewidth = None, None
     else:
         rows, cols, vals = _upper_entries(problem)
-        components, frustration_free = _signed_structure(n, rows, cols, vals)
+        components, frustration_free, labels = _signed_structure(n, rows, cols, vals)
+        problem.meta["_component_labels"] = labels
         ferromagnetic = bool(np.all(vals >= 0))
-        degeneracy, treewidth = _treewidth(n, rows, cols, budget, stats.density)
+        degeneracy, treewidth = _treewidth(n, rows, cols, stats.density)
     spectral = _mean_field_spectrum(problem, stats) if stats.density >= DENSE_FILL and n >= 50 else {}
-    score, reasons = _mean_field_score(n, stats, spectral, problem)
     kurt = math.nan if stats.excess_kurtosis is None else stats.excess_kurtosis
     return Profile(n=n, couplings=stats.couplings, density=stats.density, components=components, kind=problem.kind,
                    mean=stats.mean, std=stats.std, nonzero_mean=stats.nonzero_mean, nonzero_std=stats.nonzero_std,
                    excess_kurtosis=kurt, max_abs=stats.max_abs, ferromagnetic=ferromagnetic,
                    frustration_free=frustration_free, degeneracy=degeneracy, treewidth=treewidth,
                    has_fields=problem.has_fields, field_ratio=_field_ratio(problem, stats),
-                   mean_field_score=score, mean_field_reasons=reasons, top_eigenvalues=spectral.get("top", ()),
-                   mean_outlier=spectral.get("outlier", 0.0), seconds=time.perf_counter() - t0)
+                   top_eigenvalues=spectral.get("top", ()), mean_outlier=spectral.get("outlier", 0.0),
+                   stats_exact=stats.exact, seconds=time.perf_counter() - t0)
 
 
 def _upper_entries(problem: CanonicalProblem) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -186,60 +187,48 @@ def _dense_with_zeros(K: np.ndarray) -> tuple[int, bool] | None:
     return None
 
 
-def _signed_structure(n: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarray) -> tuple[int, bool]:
-    """Number of connected components, and whether the signed coupling graph is balanced."""
+def _signed_structure(n: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarray) -> tuple[int, bool, np.ndarray]:
+    """(number of connected components, balanced?, each spin's component label).
+
+    One call of scipy's connected components on the doubled graph: spin i becomes i⁺ and i⁻,
+    a positive coupling joins i⁺–j⁺ and i⁻–j⁻, a negative one i⁺–j⁻ and i⁻–j⁺.  The signed
+    graph is balanced (frustration-free) iff no i⁺ is joined to its i⁻; a component of the
+    coupling graph is the pair of labels {label(i⁺), label(i⁻)} its spins share.
+    """
     if n == 0:
-        return 0, True
+        return 0, True, np.zeros(0, dtype=np.int64)
     import scipy.sparse as sp
-    from scipy.sparse.csgraph import breadth_first_order, connected_components
+    from scipy.sparse.csgraph import connected_components
 
-    sign = np.sign(vals)
-    G = sp.coo_array((sign, (rows, cols)), shape=(n, n)).tocsr()
-    G = sp.csr_array(G + G.T)
-    count, label = connected_components(G, directed=False)
-    # one breadth-first sweep from a virtual node n joined (sign +) to every component's first spin
-    roots = np.unique(label, return_index=True)[1]
-    link = sp.coo_array((np.ones(len(roots)), (np.full(len(roots), n), roots)), shape=(n + 1, n + 1))
-    H = sp.csr_array(sp.block_diag([G, sp.csr_array((1, 1))]) + link + link.T)
-    order, pred = breadth_first_order(H, n, directed=False, return_predecessors=True)
-    tau = np.zeros(n + 1, dtype=np.int8)
-    tau[n] = 1
-    _propagate(H, order, pred, tau)
-    tau = tau[:n]
-    balanced = bool(np.all(tau[rows] * tau[cols] * sign > 0))
-    return int(count), balanced
+    positive = np.concatenate([vals > 0, vals > 0])
+    both_r, both_c = np.concatenate([rows, cols]), np.concatenate([cols, rows])
+    r = np.concatenate([both_r, both_r + n])
+    c = np.concatenate([np.where(positive, both_c, both_c + n), np.where(positive, both_c + n, both_c)])
+    doubled = sp.csr_array((np.ones(r.size, dtype=np.int8), (r, c)), shape=(2 * n, 2 * n))
+    # a symmetric input, so "strong" components are the undirected ones, without scipy's transpose
+    _, label = connected_components(doubled, directed=True, connection="strong")
+    plus, minus = label[:n].astype(np.int64), label[n:].astype(np.int64)
+    pair = np.minimum(plus, minus) * (2 * n) + np.maximum(plus, minus)
+    _, components = np.unique(pair, return_inverse=True)
+    return int(components.max()) + 1, bool(not np.any(plus == minus)), components.astype(np.int64)
 
 
-def _propagate(G: Any, order: np.ndarray, pred: np.ndarray, tau: np.ndarray) -> None:
-    """τ_j = τ_parent · sign(K_parent,j) along the BFS tree, in BFS order."""
-    if len(order) <= 1:
-        return
-    parents = pred[order[1:]]
-    picked = G[parents, order[1:]]
-    edge_sign = np.asarray(picked.toarray() if hasattr(picked, "toarray") else picked).ravel()
-    step = np.where(edge_sign > 0, 1, -1).astype(np.int8)
-    for j, p, s in zip(order[1:].tolist(), parents.tolist(), step.tolist()):
-        tau[j] = tau[p] * s
-
-
-def _treewidth(n: int, rows: np.ndarray, cols: np.ndarray, budget: float, density: float) -> tuple[int | None, int | None]:
+def _treewidth(n: int, rows: np.ndarray, cols: np.ndarray, density: float) -> tuple[int | None, int | None]:
+    """(a lower bound, a heuristic upper bound) on treewidth; networkx runs on small graphs only."""
     if n == 0:
         return 0, 0
     if density >= DENSE_FILL and n > 64:
         return None, None
     average = -(-len(rows) // n)  # ⌈m/n⌉ ≤ degeneracy ≤ treewidth, free to compute
-    if average > TREEWIDTH_GIVE_UP:
+    if n > TREEWIDTH_MAX_NODES:
         return int(average), None
     import networkx as nx
+    from networkx.algorithms.approximation import treewidth_min_degree
 
     g = nx.Graph()
     g.add_nodes_from(range(n))
     g.add_edges_from(zip(rows.tolist(), cols.tolist()))
     degeneracy = max(nx.core_number(g).values(), default=0)
-    if degeneracy > TREEWIDTH_GIVE_UP or n > TREEWIDTH_MAX_NODES or budget <= 0:
-        return int(degeneracy), None
-    from networkx.algorithms.approximation import treewidth_min_degree
-
     width, _ = treewidth_min_degree(g)
     return int(degeneracy), int(width)
 
@@ -265,36 +254,10 @@ def _mean_field_spectrum(problem: CanonicalProblem, stats: CouplingStats) -> dic
             "subset": size}
 
 
-def _mean_field_score(n: int, stats: CouplingStats, spectral: dict[str, Any],
-                      problem: CanonicalProblem) -> tuple[float, tuple[str, ...]]:
-    """1 for SK-like couplings, lower (with reasons) for each violated assumption."""
-    reasons: list[str] = []
-    score = 1.0
-    if stats.density < DENSE_FILL:
-        score *= 0.1
-        reasons.append(f"sparse: only {100 * stats.density:.2g}% of pairs are coupled")
-    if stats.excess_kurtosis is not None and stats.excess_kurtosis > HEAVY_TAIL_EXCESS_KURTOSIS:
-        score *= 0.3
-        reasons.append(f"heavy-tailed couplings (excess kurtosis {stats.excess_kurtosis:.3g}; Gaussian is 0)")
-    top = spectral.get("top", ())
-    if top and top[0] > SEMICIRCLE_EDGE * (1 + 2.0 * n ** (-2 / 3)) + 0.05:
-        score *= 0.4
-        reasons.append(f"spectral outlier: top eigenvalue {top[0]:.3g} of the normalised couplings exceeds the "
-                       f"semicircle edge 2 (low-rank structure)")
-    if spectral.get("outlier", 0.0) > 1.0:
-        reasons.append(f"non-zero mean coupling: a rank-one part of size {spectral['outlier']:.3g} on the "
-                       f"semicircle scale")
-    if n < 50:
-        score *= 0.2
-        reasons.append(f"small: n = {n} (the prediction is asymptotic)")
-    return score, tuple(reasons)
-
-
 def _operator_profile(problem: CanonicalProblem, t0: float) -> Profile:
     n = problem.n
     return Profile(n=n, couplings=n * (n - 1) // 2, density=1.0, components=1, kind="operator", mean=math.nan,
                    std=math.nan, nonzero_mean=math.nan, nonzero_std=math.nan, excess_kurtosis=math.nan, max_abs=math.nan,
                    field_ratio=0.0, has_fields=problem.has_fields, ferromagnetic=False, frustration_free=False,
-                   degeneracy=None, treewidth=None, mean_field_score=0.5,
-                   mean_field_reasons=("matrix-free couplings: statistics not inspected",),
-                   seconds=time.perf_counter() - t0)
+                   degeneracy=None, treewidth=None, stats_exact=False,
+                   notes=("matrix-free couplings: statistics not inspected",), seconds=time.perf_counter() - t0)

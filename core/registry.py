@@ -7,25 +7,24 @@ plugin modules, and entry points add third-party ones.
 from __future__ import annotations
 
 import importlib
-import re
+import inspect
 import os
+import re
 from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import Any, Callable, Iterable, Mapping, Sequence
 
 import numpy as np
 import pluggy
+from pydantic import BaseModel
 
 from .canonical import CanonicalProblem
 from .context import SolveContext
 from .errors import PluginError, UnknownMethodError
 from .hookspec import AUTOLOAD_ENV, ENTRY_POINT_GROUP, PROJECT, SolverHooks
+from .options import AnyOptions, model_from_mapping, read_options
 
 _NAME = re.compile(r"[A-Za-z][A-Za-z0-9_.\-]*")
-
-
-#: the assumption under which the mean-field (Parisi) guarantees hold; solvers that need it declare it
-MEAN_FIELD_ASSUMPTION = "dense, mean-zero, i.i.d.-like couplings"
 
 
 @dataclass(frozen=True)
@@ -40,6 +39,7 @@ class Capabilities:
     stochastic: bool = True      # result depends on the seed
     max_n: int | None = None     # hard size limit
     warm_start: bool = False     # accepts option "initial" (canonical ±1 start state) to improve on
+    several: bool = False        # can give several distinct good states (``solutions=k``): it reads ctx.solutions
     assumptions: tuple[str, ...] = ()  # plain-words conditions for its guarantees
 
 
@@ -58,34 +58,80 @@ class Solution:
     info: Mapping[str, Any] = field(default_factory=dict)
 
 
+@dataclass(frozen=True)
+class Advice:
+    """A plain-words note from a solver about how this problem meets its assumptions.
+
+    ``text`` is complete in canonical terms.  When ``topic`` names something a problem form
+    can say in its own terms ("mean-part", "ghost-spin"; see ``ProblemForm.phrase``), the
+    front door puts the form's sentence first, with ``values`` (canonical units).
+    """
+
+    text: str
+    topic: str | None = None
+    values: Mapping[str, float] = field(default_factory=dict)
+    lead: str = ""               # what ``topic`` is, in canonical terms (used when the form has no words of its own)
+
+    def worded(self, phrase: str | None) -> str:
+        """The message, opened by the form's own words for the topic when it has some."""
+        opening = phrase or self.lead
+        return f"{opening}. {self.text}" if opening else self.text
+
+
 RunFn = Callable[[CanonicalProblem, SolveContext], Solution]
 CheckFn = Callable[[CanonicalProblem], "bool | str"]
-FitFn = Callable[[Any], float]
+FitFn = Callable[..., float]
+AdviseFn = Callable[[CanonicalProblem, Any], "list[Advice]"]
+PredictFn = Callable[[CanonicalProblem, Any], "dict[str, Any] | None"]
+CostFn = Callable[[CanonicalProblem], float]
 
 
 @dataclass(frozen=True)
 class SolverSpec:
-    """A registered solver: its name, entry point, capabilities and checks.
+    """A registered solver: its name, entry point, capabilities, options and hooks.
 
-    ``options`` maps each accepted option to its default; the front door warns
-    about any other option.  ``fit(problem_or_profile)`` scores how well the
-    solver suits a problem ("auto" takes the highest score among those that can run).
+    ``options`` is a :class:`~spinward.core.options.SolverOptions` subclass (or, for a third
+    party, a ``{name: default}`` mapping); ``spec.options`` then reads as the mapping of
+    defaults and ``spec.options_model`` as the model.  Optional hooks:
+
+    - ``check(problem)``: True, or a reason in plain words why it cannot run (cheap: no search);
+    - ``fit(profile[, budget])``: how well it suits the problem ("auto" takes the highest score;
+      ``budget`` is the part's seconds, or None without a time limit);
+    - ``advise(problem, profile)``: :class:`Advice` when the problem breaks its assumptions;
+    - ``predict(problem, profile)``: a predicted optimum, ``{"optimum": canonical value, ...}``;
+    - ``cost(problem)``: predicted seconds of a run without a time limit (deterministic; used to
+      size the bounds' share).
     """
 
     name: str
     run: RunFn
     capabilities: Capabilities = Capabilities()
     summary: str = ""
-    options: Mapping[str, Any] = field(default_factory=dict)
+    options: Any = field(default_factory=dict)
     check: CheckFn | None = None
     fit: FitFn | None = None
+    advise: AdviseFn | None = None
+    predict: PredictFn | None = None
+    cost: CostFn | None = None
 
     def __post_init__(self) -> None:
         if not isinstance(self.name, str) or not _NAME.fullmatch(self.name):
             raise PluginError(f"solver name must be an identifier-like string, got {self.name!r}")
         if not callable(self.run):
             raise PluginError(f"solver {self.name!r}: run must be callable, got {self.run!r}")
-        object.__setattr__(self, "options", MappingProxyType(dict(self.options)))
+        model = self.options
+        if isinstance(model, Mapping):
+            model = model_from_mapping(self.name, model)
+        elif not (isinstance(model, type) and issubclass(model, BaseModel)):
+            raise PluginError(f"solver {self.name!r}: options must be a SolverOptions model or a mapping of "
+                              f"defaults, got {model!r}")
+        object.__setattr__(self, "options_model", model)
+        defaults = {} if model is AnyOptions else {k: f.default for k, f in model.model_fields.items()}
+        object.__setattr__(self, "options", MappingProxyType(defaults))
+
+    def read_options(self, given: Mapping[str, Any]) -> dict[str, Any]:
+        """``given`` checked against this solver's options, completed with the defaults."""
+        return read_options(self.name, self.options_model, given)
 
     def can_run(self, problem: CanonicalProblem) -> "bool | str":
         """True, or a reason in plain words why this solver cannot run on ``problem``."""
@@ -102,8 +148,21 @@ class SolverSpec:
                 return str(verdict) if verdict else "its own check declined the problem"
         return True
 
-    def score(self, problem: Any) -> float:
-        return float(self.fit(problem)) if self.fit is not None else 0.0
+    def score(self, profile: Any, budget: float | None = None) -> float:
+        """``fit(profile, budget)`` (or ``fit(profile)`` for a one-argument fit); 0 without a fit."""
+        if self.fit is None:
+            return 0.0
+        if _arity(self.fit) >= 2:
+            return float(self.fit(profile, budget))
+        return float(self.fit(profile))
+
+
+def _arity(fn: Callable[..., Any]) -> int:
+    try:
+        params = inspect.signature(fn).parameters.values()
+    except (TypeError, ValueError):
+        return 1
+    return sum(p.kind in (p.POSITIONAL_ONLY, p.POSITIONAL_OR_KEYWORD) for p in params)
 
 
 @dataclass(frozen=True)
@@ -118,13 +177,20 @@ class Bound:
 
 @dataclass(frozen=True)
 class BoundSpec:
-    """A bound provider: ``compute(problem, ctx) -> Bound | None``."""
+    """A bound provider: ``compute(problem, ctx) -> Bound | None``.
+
+    ``cost(problem)`` predicts its seconds (deterministic, from the size); the plan runs a
+    provider only when that fits its share.  Without a time limit the provider reads its
+    allowance from ``ctx.option("budget", None)`` (seconds of predicted cost) and must decide
+    what to compute from it, never from the clock, so that the same seed gives the same bound.
+    """
 
     name: str
     compute: Callable[[CanonicalProblem, SolveContext], "Bound | None"]
     summary: str = ""
     check: CheckFn | None = None
     priority: int = 0  # providers run in descending priority while time remains
+    cost: CostFn | None = None
 
     def applies(self, problem: CanonicalProblem) -> "bool | str":
         return True if self.check is None else self.check(problem)
@@ -138,8 +204,7 @@ def callable_spec(fn: Callable[..., Any]) -> SolverSpec:
         return out if isinstance(out, Solution) else Solution(sigma=np.asarray(out))
 
     name = getattr(fn, "__name__", "callable").replace("<", "").replace(">", "") or "callable"
-    return SolverSpec(name=name, run=run, summary="caller-supplied callable",
-                      options={"*": None})
+    return SolverSpec(name=name, run=run, summary="caller-supplied callable", options=AnyOptions)
 
 
 class Registry:

@@ -51,11 +51,12 @@ class CouplingStats:
         return abs(self.mean) * math.sqrt(self.n) / self.std if self.std > 0 else math.inf
 
 
-def coupling_stats(problem: CanonicalProblem, *, exact: bool = False) -> CouplingStats | None:
+def coupling_stats(problem: CanonicalProblem, *, exact: bool = False,
+                   max_entries: int = FULL_PASS_ENTRIES) -> CouplingStats | None:
     """The moments of ``problem``'s couplings; None for a matrix-free (LinearOperator) K.
 
-    ``exact=True`` reads every entry of a large dense K; otherwise a deterministic row sample
-    may stand in for it (the result says ``exact=False``).
+    ``exact=True`` reads every entry of a large dense K; otherwise evenly spaced rows holding
+    about ``max_entries`` entries may stand in for it (the result says ``exact=False``).
     """
     if problem.kind == "operator":
         return None
@@ -68,17 +69,17 @@ def coupling_stats(problem: CanonicalProblem, *, exact: bool = False) -> Couplin
         data = np.asarray(problem.K.data, dtype=np.float64)
         sums, rows_read = _power_sums([data]), problem.n
     else:
-        rows = _rows_to_read(problem.n, exact)
+        rows = _rows_to_read(problem.n, exact, max_entries)
         sums, rows_read = _power_sums(_dense_blocks(problem.K, rows)), len(rows)
     stats = _from_sums(problem.n, sums, rows_read)
     problem.meta["_stats_exact" if stats.exact else "_stats"] = stats
     return stats
 
 
-def _rows_to_read(n: int, exact: bool) -> np.ndarray:
-    if exact or n * n <= FULL_PASS_ENTRIES:
+def _rows_to_read(n: int, exact: bool, max_entries: int) -> np.ndarray:
+    if exact or n * n <= max_entries:
         return np.arange(n)
-    count = max(1, FULL_PASS_ENTRIES // n)
+    count = max(min(n, 64), max_entries // n)
     return np.unique(np.linspace(0, n - 1, count).astype(np.int64))
 
 

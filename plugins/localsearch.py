@@ -7,13 +7,25 @@ done or the time limit passes, and the best state is returned.
 
 from __future__ import annotations
 
-import numpy as np
+from typing import Any
 
+import numpy as np
+from pydantic import Field
+
+from spinward.core.options import SolverOptions
 from spinward.core import Capabilities, CanonicalProblem, Solution, SolveContext, SolverSpec, hookimpl
 
 from .common.flips import local_search, random_spins
 
 DEFAULT_RESTARTS = 16
+
+
+class LocalOptions(SolverOptions):
+    """Options of multi-start local search."""
+
+    restarts: int | None = Field(None, ge=1, description="random starts (default 16; with a time limit, until "
+                                                          "the clock stops)")
+    initial: Any = Field(None, description="canonical ±1 state for the first climb")
 
 
 def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
@@ -23,7 +35,7 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     """
     restarts = ctx.option("restarts", None)
     if restarts is None:
-        restarts = DEFAULT_RESTARTS if ctx.time_limit is None else 10**9
+        restarts = max(DEFAULT_RESTARTS, ctx.solutions) if ctx.time_limit is None else 10**9
     done = 0
     initial = ctx.option("initial", None)
     while done < max(int(restarts), 1):
@@ -34,7 +46,8 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
         if ctx.should_stop():
             break
     assert ctx.best_sigma is not None
-    return Solution(sigma=ctx.best_sigma, info={"restarts": done})
+    clock = ctx.time_limit is not None and done < restarts  # the clock, not the count of starts, ended it
+    return Solution(sigma=ctx.best_sigma, status="time-limit" if clock else None, info={"restarts": done})
 
 
 def fit(problem: CanonicalProblem) -> float:
@@ -45,9 +58,9 @@ def fit(problem: CanonicalProblem) -> float:
 SPEC = SolverSpec(
     name="local",
     run=run,
-    capabilities=Capabilities(operator=False, warm_start=True),
+    capabilities=Capabilities(operator=False, warm_start=True, several=True),
     summary="multi-start greedy single-flip local search",
-    options={"restarts": None, "initial": None},
+    options=LocalOptions,
     fit=fit,
 )
 

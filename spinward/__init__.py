@@ -8,19 +8,20 @@ of ½σᵀKσ + bᵀσ + k₀.
 
 from .adapters import Ising, MaxCut, QUBO
 from .adapters.files import read_problem, write_problem
-from .api import canonical, default_registry, register, register_bound, register_solver, reset_registry, solve, solvers
-from .core import (AssumptionWarning, Bound, BoundSpec, CanonicalProblem, Capabilities, FileFormatError, InputError,
-                   InputWarning, OptionWarning, PluginError, ProblemForm, Registry, ResourceError, Result, Solution,
-                   SolveContext, SolverSpec, SolverUnsuitableError, SpinwardError, SpinwardWarning,
+from .api import canonical, check_options, default_registry, register, register_bound, register_solver, reset_registry, solve, solvers
+from .core import (Advice, AssumptionWarning, Bound, BoundSpec, CanonicalProblem, Capabilities, FileFormatError,
+                   InputError, InternalError, InputWarning, OptionWarning, PluginError, ProblemForm, Registry, ResourceError, Result, Solution,
+                   SolveContext, SolverOptions, SolverSpec, SolverUnsuitableError, SpinwardError, SpinwardWarning,
                    UnknownMethodError, hookimpl)
 
 __version__ = "0.1.0"
 
 __all__ = [
-    "AssumptionWarning", "Bound", "BoundSpec", "CanonicalProblem", "Capabilities", "FileFormatError", "InputError",
+    "Advice", "AssumptionWarning", "Bound", "BoundSpec", "CanonicalProblem", "Capabilities", "FileFormatError",
+    "InputError", "InternalError",
     "InputWarning", "Ising", "MaxCut", "OptionWarning", "PluginError", "ProblemForm", "QUBO", "Registry",
-    "ResourceError", "Result", "Solution", "SolveContext", "SolverSpec", "SolverUnsuitableError", "SpinwardError",
-    "SpinwardWarning", "UnknownMethodError", "__version__", "canonical", "default_registry", "hookimpl",
+    "ResourceError", "Result", "Solution", "SolveContext", "SolverOptions", "SolverSpec", "SolverUnsuitableError", "SpinwardError",
+    "SpinwardWarning", "UnknownMethodError", "__version__", "canonical", "check_options", "default_registry", "hookimpl",
     "read_problem", "register", "register_bound", "register_solver", "reset_registry", "solve", "solvers",
     "write_problem",
 ]

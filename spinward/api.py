@@ -12,6 +12,7 @@ import numpy as np
 
 from .adapters import as_form
 from .core.canonical import CanonicalProblem
+from .core.frontdoor import check_options as _check_options
 from .core.frontdoor import solve_form
 from .core.registry import BoundSpec, Registry, SolverSpec
 from .core.result import Result
@@ -97,6 +98,17 @@ def solve(problem: Any, *, method: str | Callable[..., Any] | SolverSpec = "auto
     form = as_form(problem)
     reg = registry or default_registry()
     return solve_form(form, registry=reg, method=method, time_limit=time_limit, seed=seed, **options)
+
+
+def check_options(method: Any = "auto", options: dict[str, Any] | None = None, *,
+                  registry: Registry | None = None) -> None:
+    """Check a method and its options as ``solve`` would, without solving anything.
+
+    Raises UnknownMethodError for an unknown solver name and InputError for an unknown
+    option (with the solver's options listed and a close match suggested), a wrong type or
+    an out-of-range value.  Benchmark suites call this when they are loaded.
+    """
+    _check_options(method, dict(options or {}), registry or default_registry())
 
 
 def canonical(problem: Any) -> CanonicalProblem:

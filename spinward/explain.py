@@ -2,10 +2,16 @@
 
 from __future__ import annotations
 
+import math
 from typing import Any
 
-from .core.dispatch import Choice, choose
+import numpy as np
+
+from .core.context import SolveContext
+from .core.plan import IMPROVER_SHARE, PROFILE_SHARE, Part, reserve_seconds
+from .core.profile import Profile, profile_of
 from .core.registry import Registry
+from .core.run import Runner
 
 CANONICAL_NOTE = {
     "maxcut": "canonical couplings K = −w/2 (maximise ½σᵀKσ + bᵀσ + k₀)",
@@ -14,37 +20,95 @@ CANONICAL_NOTE = {
 }
 
 
-def inspect_form(form: Any, registry: Registry) -> Choice:
-    """The dispatcher's choice for a problem form, with its profile and verdicts."""
-    return choose(form.canonical(), registry)
+def inspect_form(form: Any, registry: Registry, time_limit: float | None = None) -> tuple[Profile, list[Part]]:
+    """The profile and the planned parts "auto" would run, without running them."""
+    problem = form.canonical()
+    profile = profile_of(problem, budget=None if time_limit is None else PROFILE_SHARE * time_limit)
+    if problem.n == 0:
+        return profile, []
+    ctx = SolveContext(rng=np.random.default_rng(0), time_limit=time_limit)
+    runner = Runner(problem, registry, ctx, bound=True, bound_share=0.1, reserve=reserve_seconds(problem))
+    return profile, runner.parts(None, profile, None)
 
 
-def format_choice(form: Any, choice: Choice) -> str:
-    p = choice.profile
-    lines = [f"problem:     {form.form}, n = {p.n}, {p.couplings} couplings (density {100 * p.density:.3g}%), "
-             f"{p.components} component(s), {p.kind} storage",
-             f"couplings:   mean {p.mean:.4g}, std {p.std:.4g} over all pairs; non-zero mean {p.nonzero_mean:.4g}, "
-             f"excess kurtosis {p.excess_kurtosis:.3g}, max |K| {p.max_abs:.4g}  [{CANONICAL_NOTE.get(form.form, 'canonical form')}]",
-             f"fields:      {'rms ratio to couplings ' + format(p.field_ratio, '.3g') if p.has_fields else 'none'}",
-             f"structure:   ferromagnetic {_yn(p.ferromagnetic)}, frustration-free {_yn(p.frustration_free)}, "
-             f"treewidth {'≤ ' + str(p.treewidth) if p.treewidth is not None else 'not estimated'}"
-             + (f" (degeneracy {p.degeneracy})" if p.degeneracy is not None else ""),
-             f"mean field:  score {p.mean_field_score:.2f}"
-             + (f", top eigenvalue {p.top_eigenvalues[0]:.3f} vs semicircle edge 2" if p.top_eigenvalues else "")]
-    lines += [f"             - {r}" for r in p.mean_field_reasons]
-    lines.append(f"profiled in {p.seconds:.3f} s")
-    lines.append("solvers:")
-    for name, verdict in choice.verdicts.items():
-        text = f"would run (fit {choice.scores[name]:.3g})" if verdict is True else f"would not: {verdict}"
-        lines.append(f"  {name:12s} {text}")
-    lines.append(f"choice:      {choice.spec.name}"
-                 + (f", then {choice.improver.name} improves its state when a time limit is given"
-                    if choice.improver else ""))
-    if choice.prediction:
-        pr = choice.prediction
-        lines.append(f"prediction:  optimum ≈ {pr['optimum']:.6g} (finite-size estimate {pr['finite_size_estimate']:.6g}; "
-                     f"{pr['source']})")
+def format_inspection(form: Any, profile: Profile, parts: list[Part], registry: Registry,
+                      time_limit: float | None = None) -> str:
+    lines = _profile_lines(form, profile)
+    if not parts:
+        return "\n".join(lines + ["plan:        nothing to solve (no variables)"])
+    ranking = parts[0].ranking
+    if len(parts) == 1 and ranking is not None:
+        lines.append("solvers:")
+        for name, verdict in ranking.verdicts.items():
+            text = f"would run (fit {ranking.scores[name]:.3g})" if verdict is True else f"would not: {verdict}"
+            lines.append(f"  {name:12s} {text}")
+    lines.append("plan:" + ("" if time_limit is None else f"        (time limit {time_limit:g} s)"))
+    for part in parts[:12]:
+        lines.append("  " + _part_line(part, len(parts) > 1, time_limit))
+    if len(parts) > 12:
+        lines.append(f"  ... and {len(parts) - 12} more parts")
+    lines.append("  bounds: " + _bound_line(parts, registry, time_limit))
+    lines += _advice_lines(form, parts)
     return "\n".join(lines)
+
+
+def _profile_lines(form: Any, p: Profile) -> list[str]:
+    return [f"problem:     {form.form}, n = {p.n}, {p.couplings} couplings (density {100 * p.density:.3g}%), "
+            f"{p.components} component(s), {p.kind} storage",
+            f"couplings:   mean {p.mean:.4g}, std {p.std:.4g} over all pairs; non-zero mean {p.nonzero_mean:.4g}, "
+            f"excess kurtosis {p.excess_kurtosis:.3g}, max |K| {p.max_abs:.4g}"
+            + ("" if p.stats_exact else " (from a sample of rows)")
+            + f"  [{CANONICAL_NOTE.get(form.form, 'canonical form')}]",
+            f"fields:      {'rms ratio to couplings ' + format(p.field_ratio, '.3g') if p.has_fields else 'none'}",
+            f"structure:   ferromagnetic {_yn(p.ferromagnetic)}, frustration-free {_yn(p.frustration_free)}, "
+            f"treewidth {'≤ ' + str(p.treewidth) if p.treewidth is not None else 'not estimated'}"
+            + (f" (at least {p.degeneracy})" if p.degeneracy is not None else ""),
+            "spectrum:    " + (f"top eigenvalue {p.top_eigenvalues[0]:.3f} of the normalised couplings (semicircle "
+                               f"edge 2), mean part {p.mean_outlier:.3g}" if p.top_eigenvalues else "not inspected"),
+            f"profiled in {p.seconds:.3f} s"]
+
+
+def _part_line(part: Part, several: bool, time_limit: float | None) -> str:
+    head = f"part {part.index} ({len(part.idx)} spins): " if several else ""
+    names = [s.name for s in part.candidates]
+    text = head + f"{names[0]}"
+    if len(names) > 1 and part.candidates[0].capabilities.exact:
+        text += f" (if it declines: {', '.join(names[1:3])})"
+    if part.improver is not None and not part.candidates[0].capabilities.exact:
+        share = f"{100 * IMPROVER_SHARE:.0f}% of the part's time" if time_limit is not None else "its default work"
+        text += f", then {part.improver.name} improves the state ({share})"
+    return text
+
+
+def _bound_line(parts: list[Part], registry: Registry, time_limit: float | None) -> str:
+    names = []
+    for provider in registry.bounds():
+        if all(provider.applies(p.problem) is True for p in parts):
+            cost = sum(provider.cost(p.problem) for p in parts) if provider.cost is not None else math.nan
+            names.append(f"{provider.name} (about {cost:.2g} s)" if math.isfinite(cost) else provider.name)
+    share = "10% of the time limit" if time_limit is not None else "up to 15% of the primary's predicted time"
+    return (", ".join(names) or "none applies") + f"; they run while they fit {share}"
+
+
+def _advice_lines(form: Any, parts: list[Part]) -> list[str]:
+    lines = []
+    if len(parts) != 1:
+        return lines
+    part = parts[0]
+    spec = part.candidates[0]
+    prof = profile_of(part.problem)
+    if spec.predict is not None:
+        found = spec.predict(part.problem, prof)
+        if found:
+            p = part.problem
+            lines.append(f"prediction:  optimum ≈ {p.to_objective(found['optimum']):.6g} (finite-size estimate "
+                         f"{p.to_objective(found.get('finite_size_estimate', found['optimum'])):.6g}; "
+                         f"{found.get('source', '')})")
+    if spec.advise is not None:
+        for advice in spec.advise(part.problem, prof):
+            lines.append("note:        " + advice.worded(form.phrase(advice.topic, dict(advice.values))
+                                                        if advice.topic else None))
+    return lines
 
 
 def _yn(flag: bool) -> str:

@@ -21,7 +21,7 @@ from spinward.core.errors import FileFormatError
 from ..graph import MaxCut
 from ..ising import Ising
 from ..qubo import QUBO
-from .safety import read_text
+from .safety import control_character, read_text
 
 SCHEMA = "spinward.problem/1"
 #: fields each form's document may hold (besides "schema" and "form")
@@ -96,7 +96,7 @@ def _qubo(doc: dict[str, Any]) -> QUBO:
         for side, name in enumerate((i, j)):
             if known and name not in known:
                 raise DocumentError(f"terms[{k}][{side}]", f"label {name!r} is not among 'labels'")
-        terms[(i, j)] = terms.get((i, j), 0.0) + q
+        _add(terms, (i, j), q, f"terms[{k}]")
     return QUBO(terms, offset=offset)
 
 
@@ -109,10 +109,10 @@ def _ising(doc: dict[str, Any]) -> Ising:
         if len(pair) != 2:
             raise DocumentError(where, f"a field is a [label, h] pair, got {len(pair)} entries")
         label = _label(pair[0], f"{where}[0]")
-        fields[label] = fields.get(label, 0.0) + _number(pair[1], f"{where}[1]")
+        _add(fields, label, _number(pair[1], f"{where}[1]"), f"{where}[1]")
     J: dict[Any, float] = {}
-    for i, j, v in _triples(doc.get("couplings", []), "couplings", "a coupling J"):
-        J[(i, j)] = J.get((i, j), 0.0) + v
+    for k, (i, j, v) in enumerate(_triples(doc.get("couplings", []), "couplings", "a coupling J")):
+        _add(J, (i, j), v, f"couplings[{k}]")
     return Ising(J, fields, offset=offset)
 
 
@@ -133,6 +133,15 @@ def _maxcut(doc: dict[str, Any]) -> MaxCut:
         u, v = _label(edge[0], f"{where}[0]"), _label(edge[1], f"{where}[1]")
         g.add_edge(u, v, weight=_number(edge[2], f"{where}[2]") if weighted else 1.0)
     return MaxCut(g)
+
+
+def _add(totals: dict[Any, Any], key: Any, value: float, where: str) -> None:
+    """Add a repeated entry exactly: integers as Python integers, refused when the sum passes 2**53."""
+    total = totals.get(key, 0) + value
+    if isinstance(total, int) and abs(total) > EXACT_INT:
+        raise DocumentError(where, f"this entry repeats an earlier one, and together they add up to {total}, beyond "
+                                   f"2**53, where float64 is no longer exact; divide the data by a common factor")
+    totals[key] = total
 
 
 def _triples(value: Any, name: str, what: str) -> list[tuple[Hashable, Hashable, float]]:
@@ -175,7 +184,7 @@ def _number(value: Any, where: str) -> float:
                                    f"divide the data by a common factor")
     if not np.isfinite(value):
         raise DocumentError(where, f"{value!r} is not a finite number")
-    return float(value)
+    return value  # an int stays exact, so repeated entries add up exactly
 
 
 def _label(value: Any, where: str, depth: int = 0) -> Hashable:
@@ -186,6 +195,10 @@ def _label(value: Any, where: str, depth: int = 0) -> Hashable:
         return tuple(_label(v, f"{where}[{k}]", depth + 1) for k, v in enumerate(value))
     if isinstance(value, bool) or not isinstance(value, (int, str)):
         raise DocumentError(where, f"a label is an integer, a string or an array of labels, got {_kind(value)}")
+    ch = control_character(value) if isinstance(value, str) else None
+    if ch is not None:
+        raise DocumentError(where, f"the label {value!r} holds the control character U+{ord(ch):04X}; labels must "
+                                   f"be printable text")
     return value
 
 

@@ -103,7 +103,7 @@ def grid_of_width(width: int, n: int, rng: np.random.Generator) -> tuple[int, Ca
     """A k×⌈n/k⌉ grid (k near ``width``) on which our orders reach exactly ``width``, if any."""
     for k in (width - 1, width, width - 2):
         problem = grid_problem(k, n, rng)
-        found = treedp.decompose(problem, 24, treedp.DEFAULT_ORDER_TIME)  # cached for the solve
+        found = treedp.decompose(problem, 24, treedp.Budget(treedp.DEFAULT_ORDER_TIME * treedp.WORK_PER_SECOND))  # cached
         if isinstance(found, treedp.Elimination) and found.width == width:
             return k, problem
     return None

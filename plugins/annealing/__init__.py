@@ -28,30 +28,44 @@ from __future__ import annotations
 import math
 import time
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 
+from pydantic import Field
+
 from spinward.core import Capabilities, CanonicalProblem, InputError, Solution, SolveContext, SolverSpec, hookimpl
+from spinward.core.options import SolverOptions
 
 from ..common.couplings import working_couplings
 from ..common.flips import csr_parts, local_search, random_spins
+from ..common.offers import OfferPace
 
 SCHEDULES = ("linear", "geometric")
 DEFAULT_SWEEPS = 1000
 RULES = {"metropolis": 0, "heat-bath": 1}
 DEFAULT_BETA_SPAN = (0.2, 8.0)
 CHUNK_SECONDS = 0.05          # target time between clock checks
-OFFER_SECONDS = 1.0           # hand the incumbent to the core at least this often
 FIT_SHARE = 0.9               # share of the time left that the next schedule may use
 PROBE_SWEEPS = 20             # length of the schedule that times a sweep
 UNBOUNDED = 10**7             # sweeps: the longest schedule (its β array takes 80 MB)
 GROWTH = 4                    # each schedule is this many times longer than the last, if the time allows
 
-OPTIONS: dict[str, Any] = {
-    "sweeps": None, "restarts": None, "schedule": "linear", "beta_span": None,
-    "rule": "metropolis", "precision": "auto",
-}
+class AnnealOptions(SolverOptions):
+    """Options of simulated annealing (see the module docstring)."""
+
+    sweeps: int | None = Field(None, ge=1, description="sweeps per schedule (default 1000; with a time limit, "
+                                                        "schedules grow ×4 while they pay)")
+    restarts: int | None = Field(None, ge=1, description="schedules from fresh random spins (default 1; with a "
+                                                          "time limit, until the clock stops)")
+    schedule: Literal["linear", "geometric"] = Field("linear", description="how β moves between its ends")
+    beta_span: tuple[float, float] | None = Field(None, description="(low, high) inverse temperatures relative to "
+                                                                    "the coupling scale (default (0.2, 8))")
+    rule: Literal["metropolis", "heat-bath"] = Field("metropolis", description="acceptance rule of a flip")
+    precision: Literal["auto", "float32", "float64"] = Field("auto", description="working copy of the couplings")
+
+
+OPTIONS: dict[str, Any] = {name: field.default for name, field in AnnealOptions.model_fields.items()}
 
 
 @dataclass(frozen=True)
@@ -109,8 +123,8 @@ def make_plan(problem: CanonicalProblem, ctx: SolveContext) -> Plan:
     if not (0 < float(lo) <= float(hi) < math.inf):
         raise InputError(f"anneal: beta_span must be two numbers 0 < lo <= hi, got {(lo, hi)!r}")
     restarts = ctx.option("restarts", None)
-    if restarts is None:  # one anneal, or as many as the time limit allows
-        restarts = 1 if ctx.time_limit is None else 10**9
+    if restarts is None:  # one anneal (one per answer asked for), or as many as the time limit allows
+        restarts = max(1, ctx.solutions) if ctx.time_limit is None else 10**9
     if int(restarts) < 1:
         raise InputError(f"anneal: restarts must be a positive integer or None, got {restarts!r}")
     scale = coupling_scale(problem)
@@ -148,7 +162,7 @@ class Annealer:
 def anneal_once(annealer: Annealer, plan: Plan, ctx: SolveContext) -> tuple[bool, int]:
     """One full schedule in clock-checked chunks; returns (finished, sweeps done)."""
     betas, done, chunk = plan.betas, 0, 1
-    last_offer = time.perf_counter()
+    offer = OfferPace(annealer.problem, ctx)  # each improvement, after the chunk that found it
     while done < betas.size:
         t0 = time.perf_counter()
         annealer.sweep(betas[done:done + chunk], plan.rule)
@@ -158,9 +172,7 @@ def anneal_once(annealer: Annealer, plan: Plan, ctx: SolveContext) -> tuple[bool
         chunk = max(1, min(4 * chunk, int(chunk * CHUNK_SECONDS / max(spent, 1e-9))))
         if ctx.should_stop():
             return False, done
-        if time.perf_counter() - last_offer > OFFER_SECONDS:
-            ctx.offer(annealer.best_sigma, annealer.problem.value(annealer.best_sigma))
-            last_offer = time.perf_counter()
+        offer(annealer.best_sigma, annealer.best)
     return True, done
 
 
@@ -225,9 +237,10 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
                 break
             plan = plan.resized(length)
     assert ctx.best_sigma is not None
-    return Solution(sigma=ctx.best_sigma, info={"restarts": done, "sweeps": sweeps_run, "last_sweeps": plan.sweeps,
-                                                "schedule_finished": finished,
-                                                "beta_span": (float(plan.betas[0]), float(plan.betas[-1]))})
+    clock = ctx.time_limit is not None and (done < plan.restarts or not finished)  # the clock, not the work, ended it
+    return Solution(sigma=ctx.best_sigma, status="time-limit" if clock else None,
+                    info={"restarts": done, "sweeps": sweeps_run, "last_sweeps": plan.sweeps,
+                          "schedule_finished": finished, "beta_span": (float(plan.betas[0]), float(plan.betas[-1]))})
 
 
 def fit(problem: CanonicalProblem) -> float:
@@ -238,9 +251,9 @@ def fit(problem: CanonicalProblem) -> float:
 SPEC = SolverSpec(
     name="anneal",
     run=run,
-    capabilities=Capabilities(operator=False),
+    capabilities=Capabilities(operator=False, several=True),
     summary="simulated annealing, single-flip Metropolis or heat-bath, β schedule set from the coupling scale",
-    options=OPTIONS,
+    options=AnnealOptions,
     fit=fit,
 )
 

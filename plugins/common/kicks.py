@@ -26,19 +26,24 @@ import numpy as np
 from spinward.core import CanonicalProblem, SolveContext
 
 from .flips import csr_parts, flip_tolerance, local_search, mean_degree
+from .offers import OfferPace
 
 BALL_SIZES = (8, 4, 12, 6, 16, 24)
 ROUND_WORK = 4_000_000  # coupling visits per kernel call: about 0.03–0.06 s here
-OFFER_SECONDS = 1.0
+ROUND_KICKS_PER_SPIN = 20  # and at most this many kicks per spin, so small problems report (and cool) often
 
 
 def round_kicks(problem: CanonicalProblem, size: int) -> int:
-    """Kicks per kernel call for balls of ``size`` spins, from the mean degree alone.
+    """Kicks per kernel call for balls of ``size`` spins, from the mean degree and n alone.
 
     The count depends on the problem, never on the clock, so a run without a time limit
     is the same on any machine and under any load (ball sizes and kernel seeds change per call).
+    The cap of ``ROUND_KICKS_PER_SPIN``·n matters below n ≈ 3000: improvements are offered
+    (and the temperature of annealed kicks steps down) once per call, so one call must not
+    hold a whole small run.
     """
-    return max(100, int(ROUND_WORK / (2.0 * size * (mean_degree(problem) + 1.0))))
+    work = int(ROUND_WORK / (2.0 * size * (mean_degree(problem) + 1.0)))
+    return max(100, min(work, ROUND_KICKS_PER_SPIN * problem.n))
 
 
 def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext, *,
@@ -70,7 +75,7 @@ def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext,
     budget = math.inf if kicks is None else kicks
     per_call = {size: round_kicks(problem, size) for size in BALL_SIZES}
     done, round_, idle = 0, 0, 0
-    last_offer = begin
+    offer = OfferPace(problem, ctx)  # each new best, after the kernel call that found it
     while done < budget and time.perf_counter() < end and not ctx.should_stop() \
             and (stall is None or idle < stall):
         size = BALL_SIZES[round_ % len(BALL_SIZES)]
@@ -83,8 +88,6 @@ def kick_search(problem: CanonicalProblem, sigma: np.ndarray, ctx: SolveContext,
                                               int(ctx.rng.integers(0, 2**31 - 1)), tol, temp)
         idle = 0 if (gained or temp > 0) else idle + count
         done, round_ = done + count, round_ + 1
-        if time.perf_counter() - last_offer > OFFER_SECONDS:
-            ctx.offer(best_sigma.astype(np.int8), problem.value(best_sigma))
-            last_offer = time.perf_counter()
+        offer(best_sigma, best)
     out, out_value = local_search(problem, best_sigma.astype(np.int8))
     return out, out_value, done

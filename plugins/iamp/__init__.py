@@ -38,38 +38,50 @@ import math
 import time
 from collections.abc import Callable
 from dataclasses import dataclass, replace
-from typing import Any
+from typing import Annotated, Any, Literal
 
 import numpy as np
 
-from spinward.core.registry import MEAN_FIELD_ASSUMPTION
+from pydantic import Field
+
 from spinward.core import CanonicalProblem, Capabilities, InputError, Solution, SolveContext, SolverSpec, hookimpl
 from spinward.core.canonical import row_blocks
+from spinward.core.options import SolverOptions
 from spinward.core.statistics import CouplingStats
 from spinward.core.statistics import _from_sums as from_power_sums  # the core's one moment formula
 
 from . import diagnostics as diag
+from .fields import ROOT_ITERATIONS, energy_per_spin, field_tables
 from .message_passing import Matvec, find_root, iamp, normalised, raw_matvec, with_ghost
 from .polish import PolishOutcome, PolishPlan, auto_betas, make_walker, run_polish, scale_of, walker_precision
-from .fields import ROOT_ITERATIONS, energy_per_spin, field_tables
-from .prediction import MIN_PREDICTION_N, fit, fluctuation_e, mean_part, prediction
+from .prediction import ASSUMPTION, MIN_PREDICTION_N, advise, fit, fluctuation_e, mean_part, predict, prediction
 
-OPTIONS: dict[str, Any] = {
-    "solutions": "auto",     # independent IAMP runs sharing one Parisi solution; the best is returned
-    "delta": 0.005,          # variance of each increment (1/δ steps, one matvec each)
-    "parisi_k": 50,          # levels of the Parisi γ that drives IAMP
-    "project": 2,            # z is made orthogonal to this many latest inputs (0 = plain IAMP)
-    "spectrum_check": True,  # Lanczos estimate of the extreme eigenvalues of A (costs lanczos_steps matvecs)
-    "lanczos_steps": 16,
-    "coupling_std": None,    # the scale s, for a LinearOperator (else estimated from probes)
-    "probes": 8,             # Hutchinson probes for s when K is a LinearOperator
-    "polish_sweeps": 6000,   # sweeps per polish round after the clean-up (0 = no polish)
-    "polish_rounds": "auto",  # rounds: 1 without a time limit, as many as fit with one; or an integer
-    "polish_betas": "auto",  # β of the polish, first and last sweep, in units of A (T_c = 1 for SK); see polish.py
-    "precision": "auto",     # "auto": float32 matvecs, int16 polish; "float32"; "float64"
-    "block_visit_sweeps": 1,  # couplings in row blocks on a cluster: polish sweeps per visit of a block
-    "fields": "parisi",      # fields: "parisi" (the Parisi formula with their law, two-phase IAMP) or "ghost"
-}
+class IampOptions(SolverOptions):
+    """Options of the IAMP solver (see the module docstring)."""
+
+    solutions: Literal["auto"] | Annotated[int, Field(ge=1, le=10_000)] = Field(
+        "auto", description="independent IAMP runs sharing one Parisi solution ('auto': (2000/n)², 1 to 4)")
+    delta: float = Field(0.005, ge=1e-4, le=0.5, description="variance of each increment (1/δ steps, one product each)")
+    parisi_k: int = Field(50, ge=1, le=200, description="levels of the Parisi γ that drives IAMP")
+    project: int = Field(2, ge=0, le=16, description="z is made orthogonal to this many latest inputs (0: plain IAMP)")
+    spectrum_check: bool = Field(True, description="Lanczos estimate of the extreme eigenvalues of A")
+    lanczos_steps: int = Field(16, ge=2, le=500, description="products of the spectrum check")
+    coupling_std: float | None = Field(None, gt=0.0, description="the scale s for a LinearOperator (else estimated)")
+    probes: int = Field(8, ge=1, le=1000, description="random probes that estimate s for a LinearOperator")
+    polish_sweeps: int = Field(6000, ge=0, le=10**7, description="sweeps per polish round after the clean-up (0: none)")
+    polish_rounds: Literal["auto"] | Annotated[int, Field(ge=1, le=10**6)] = Field(
+        "auto", description="polish rounds ('auto': 1 without a time limit, as many as fit with one)")
+    polish_betas: Literal["auto"] | tuple[float, float] = Field(
+        "auto", description="first and last β of the polish in units of A ('auto': 1.2 or, from n = 8000, 1.5 to 20)")
+    precision: Literal["auto", "float32", "float64"] = Field(
+        "auto", description="'auto': float32 products, int16 polish; or float32 / float64 throughout")
+    block_visit_sweeps: int = Field(1, ge=1, le=10**6, description="couplings in row blocks on a cluster: polish "
+                                                                   "sweeps per visit of a block (1: the in-memory walk)")
+    fields: Literal["parisi", "ghost"] = Field("parisi", description="fields through the Parisi formula with their "
+                                                                      "law (two-phase IAMP) or by a ghost spin")
+
+
+OPTIONS: dict[str, Any] = {name: field.default for name, field in IampOptions.model_fields.items()}
 FIELD_MODES = ("parisi", "ghost")
 #: "auto" runs: as many as cost one run at this size (a run costs ∝ n²), at most AUTO_MAX_RUNS
 AUTO_REFERENCE_N = 2000
@@ -384,12 +396,14 @@ SPEC = SolverSpec(
     name="iamp",
     run=run,
     capabilities=Capabilities(fields=True, dense=True, sparse=True, operator=True, stochastic=True,
-                              assumptions=(MEAN_FIELD_ASSUMPTION,
+                              assumptions=(ASSUMPTION,
                                            "fields independent of the couplings (they enter through the Parisi "
                                            "formula with their law)")),
     summary="IAMP driven by the zero-temperature Parisi solution, greedy clean-up, then low-temperature re-annealing",
-    options=OPTIONS,
+    options=IampOptions,
     fit=fit,
+    advise=advise,
+    predict=predict,
 )
 
 

@@ -8,14 +8,28 @@ and "spectral" (:mod:`spinward.plugins.spectral`), and the bound providers
 
 from __future__ import annotations
 
-from typing import Any
+from typing import Any, Literal
 
+from pydantic import Field
+
+from spinward.core.options import SolverOptions
 from spinward.core import (Bound, BoundSpec, Capabilities, CanonicalProblem, Solution, SolveContext, SolverSpec,
                            hookimpl)
 
 from .. import spectral
 
-OPTIONS = {"rank": None, "tol": 3e-7, "max_sweeps": 2000, "hyperplanes": 128, "polish": 16, "precision": "auto"}
+class SdpOptions(SolverOptions):
+    """Options of the SDP relaxation with hyperplane rounding."""
+
+    rank: int | None = Field(None, ge=1, description="columns of the Burer–Monteiro factor (default ⌈√(2n)⌉ + 1)")
+    tol: float = Field(3e-7, ge=0.0, description="relative change per sweep at which the mixing method stops")
+    max_sweeps: int = Field(2000, ge=1, description="most sweeps of the mixing method")
+    hyperplanes: int = Field(128, ge=1, description="random hyperplanes tried for rounding")
+    polish: int = Field(16, ge=0, description="best rounded states climbed to a 1-flip local optimum")
+    precision: Literal["auto", "float32", "float64"] = Field("auto", description="working copy of the couplings")
+
+
+OPTIONS: dict[str, Any] = {name: field.default for name, field in SdpOptions.model_fields.items()}
 SDP_SHARE = 0.7  # of a time limit, for the relaxation; the rest is left for rounding and polishing
 
 
@@ -54,9 +68,21 @@ SPEC = SolverSpec(
     run=run,
     capabilities=Capabilities(fields=True, operator=False),
     summary="SDP relaxation by Burer–Monteiro (mixing method), Goemans–Williamson rounding + single flips",
-    options=OPTIONS,
+    options=SdpOptions,
     fit=fit,
 )
+
+
+def _spectral_cost(problem: CanonicalProblem) -> float:
+    from .certificates import spectral_cost
+
+    return spectral_cost(problem)
+
+
+def _dual_cost(problem: CanonicalProblem) -> float:
+    from .certificates import dual_cost
+
+    return dual_cost(problem)
 
 
 def _spectral(problem: CanonicalProblem, ctx: SolveContext) -> Bound | None:
@@ -77,9 +103,9 @@ def _explicit(problem: CanonicalProblem) -> bool | str:
 
 BOUNDS = [
     BoundSpec("spectral", _spectral, summary="largest eigenvalue of the ghost-spin lift, Delorme–Poljak shifted",
-              check=_explicit, priority=20),
+              check=_explicit, priority=20, cost=_spectral_cost),
     BoundSpec("sdp-dual", _dual, summary="SDP dual bound from the Burer–Monteiro factor, Cholesky-verified",
-              check=_explicit, priority=10),
+              check=_explicit, priority=10, cost=_dual_cost),
 ]
 
 

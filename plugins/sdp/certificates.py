@@ -23,13 +23,22 @@ import numpy as np
 from spinward.core import Bound, CanonicalProblem, SolveContext
 
 from . import eigen
-from .mixing import cached_factor, dense_couplings, lift, remember_factor, solve_sdp
+from .mixing import cached_factor, default_rank, dense_couplings, lift, remember_factor, solve_sdp
 
 DENSE_LIMIT = 6000   # largest N certified by a dense Cholesky (≈ N³/3 flops)
 DP_STEPS = 3         # Delorme–Poljak steps on y after the two starting points
 SLACK = 5e-4         # first Cholesky shift for the dual, relative to mean |y| (bound slack ≈ this, relative)
 SDP_TOL = 3e-7       # mixing-method tolerance when the bound provider solves the SDP itself
+MIN_SWEEPS = 10      # the dual bound starts only when this many sweeps and the proof fit
+DEFAULT_MAX_SWEEPS = 2000
 FLOPS = 1.5e9        # a conservative dense LAPACK rate (one core), used only to budget the time limit
+EIGH_FLOP_FACTOR = 4.0 / 3.0   # a dense eigh (one eigenpair) costs about this many N³ flops, Cholesky ⅓
+PASS_SECONDS = 2e-9   # seconds per stored coupling entry for one product with K (memory bound, generous)
+ITERATIONS = 100      # Lanczos restarts of the plain (estimated) bound, at most
+MIN_PASSES = 40       # an iterative estimate with fewer products with K than this is not worth starting
+STEP_SECONDS = 5e-4   # the iterative eigen-solvers' own work per product with K (measured: LOBPCG, sparse)
+SWEEP_FLOPS = 2e9     # multiply-adds per second of a mixing-method sweep (blocked BLAS or numba; generous)
+SINGLE_THREAD_UP_TO = 3000  # below this N, LAPACK runs on one BLAS thread (faster, and steady under load)
 
 
 def _seconds_for(flops: float) -> float:
@@ -40,8 +49,67 @@ def _cholesky_cost(N: int) -> float:
     return _seconds_for(N ** 3 / 3)
 
 
+def _eigh_cost(N: int) -> float:
+    return _seconds_for(EIGH_FLOP_FACTOR * N ** 3)
+
+
+def _pass_cost(problem: CanonicalProblem) -> float:
+    entries = problem.K.nnz if problem.kind == "sparse" else problem.n ** 2
+    return PASS_SECONDS * (entries + problem.n)
+
+
+def _passes(seconds: float, lifted: CanonicalProblem) -> int:
+    """How many products with K fit into ``seconds`` (at most ``ITERATIONS`` Lanczos restarts' worth).
+
+    Each product also pays the iterative solvers' own work per step (orthogonalisation, small
+    eigenproblems; ``STEP_SECONDS``), which dominates on sparse K.
+    """
+    per = _pass_cost(lifted) + STEP_SECONDS
+    return int(min(ITERATIONS * eigen.LANCZOS_BASIS, max(seconds, 0.0) / per))
+
+
+def available(ctx: SolveContext) -> float:
+    """Seconds this bound may take: the allowance the plan gave (``budget``), and the clock when timed."""
+    budget = ctx.option("budget", None)
+    return min(ctx.remaining(), math.inf if budget is None else float(budget))
+
+
 def _fits(ctx: SolveContext, seconds: float) -> bool:
-    return ctx.remaining() >= seconds
+    return available(ctx) >= seconds
+
+
+def spectral_cost(problem: CanonicalProblem) -> float:
+    """Predicted seconds of the cheapest spectral bound: an estimate, plus its proof where N allows."""
+    lifted_n = problem.n + (1 if problem.has_fields else 0)
+    if problem.kind == "dense" and lifted_n <= eigen.EIGH_LIMIT:
+        return _eigh_cost(lifted_n) + _cholesky_cost(lifted_n)
+    estimate = MIN_PASSES * _pass_cost(problem)
+    return estimate + (_cholesky_cost(lifted_n) if lifted_n <= eigen.SMALL_SPARSE else 0.0)
+
+
+def dual_cost(problem: CanonicalProblem) -> float:
+    """Predicted seconds of the SDP dual bound: the mixing method (unless a factor is cached) and its proof."""
+    N = problem.n + (1 if problem.has_fields else 0)
+    proof = _cholesky_cost(N) if N <= DENSE_LIMIT else MIN_PASSES * _pass_cost(problem)
+    solve = 0.0 if cached_factor(problem) is not None else MIN_SWEEPS * _sweep_cost(problem)
+    return solve + proof
+
+
+def _sweep_cost(problem: CanonicalProblem) -> float:
+    """One mixing-method sweep: a pass over K plus 2·entries·k multiply-adds (blocked products)."""
+    entries = problem.K.nnz if problem.kind == "sparse" else problem.n ** 2
+    return _pass_cost(problem) + 2.0 * entries * default_rank(problem.n) / SWEEP_FLOPS
+
+
+def limited_threads(N: int) -> Any:
+    """One BLAS thread for moderate N (see SINGLE_THREAD_UP_TO), else no change."""
+    from contextlib import nullcontext
+
+    if N > SINGLE_THREAD_UP_TO:
+        return nullcontext()
+    from threadpoolctl import threadpool_limits
+
+    return threadpool_limits(limits=1, user_api="blas")
 
 
 def bound_value(y: np.ndarray, lam: float, k0: float) -> float:
@@ -76,11 +144,12 @@ def _off_diagonal(K: Any) -> tuple[Any, float]:
 
 def bound_from_y(problem: CanonicalProblem, y: np.ndarray, *, method: str, rng: np.random.Generator,
                  dense_limit: int = DENSE_LIMIT, est: eigen.Estimate | None = None,
-                 first: float | None = None, clustered: bool = False) -> Bound:
+                 first: float | None = None, clustered: bool = False, passes: int | None = None) -> Bound:
     """The bound ½Σy − ½Nλ + k₀ with λ proven when N ≤ ``dense_limit``, else estimated.
 
     ``first`` is a shift for the Cholesky proof to try before estimating λ_min;
-    ``clustered`` says the bottom of the spectrum clusters (y from an SDP factor).
+    ``clustered`` says the bottom of the spectrum clusters (y from an SDP factor);
+    ``passes`` caps the products with K of an iterative estimate.
     """
     lifted = lift(problem)
     K, half_trace = _off_diagonal(_couplings(lifted))
@@ -95,7 +164,7 @@ def bound_from_y(problem: CanonicalProblem, y: np.ndarray, *, method: str, rng: 
         info["reason"] = "Cholesky verification failed"
     else:
         info["reason"] = f"N = {lifted.n} is above the Cholesky limit {dense_limit}"
-    est = eigen.estimate(K, y, rng, clustered=clustered) if est is None else est
+    est = eigen.estimate(K, y, rng, clustered=clustered, passes=passes) if est is None else est
     info.update(estimate=est.theta, estimator=est.method, residual=est.residual)
     # Without a proof, θ − ‖r‖ only bounds the eigenvalue nearest θ, not λ_min: an estimate.
     return Bound(bound_value(y, est.theta - est.residual, k0), False, method, info)
@@ -106,10 +175,11 @@ def _dp_value(y: np.ndarray, est: eigen.Estimate) -> float:
 
 
 def delorme_poljak(K: Any, N: int, rng: np.random.Generator, *, steps: int = DP_STEPS,
-                   should_stop: Any = None) -> tuple[np.ndarray, eigen.Estimate]:
+                   afford: Any = None) -> tuple[np.ndarray, eigen.Estimate]:
     """Cheap descent on f(y) = ½Σy − ½Nλ_min(Diag(y) − K), from y = 0 and y = K1 (Laplacian).
 
     ∂f/∂yᵢ = ½(1 − N uᵢ²) with u the bottom eigenvector; steps halve on failure.
+    ``afford()`` is asked before each step (one more estimate) and ends the descent when False.
     Returns the best y found and its estimate (values are estimates, not proofs).
     """
     starts = [np.zeros(N), np.asarray(K.sum(axis=1)).ravel().astype(np.float64)]
@@ -117,7 +187,7 @@ def delorme_poljak(K: Any, N: int, rng: np.random.Generator, *, steps: int = DP_
     y, est = min(scored, key=lambda t: _dp_value(*t))
     step = 0.25 * max(abs(est.theta), 1e-12 * eigen.scale_of(K, y), 1e-300)
     for _ in range(steps):
-        if should_stop is not None and should_stop():
+        if afford is not None and not afford():
             break
         trial = y - step * 0.5 * (1.0 - N * est.vector ** 2)
         trial_est = eigen.estimate(K, trial, rng, x0=est.vector)
@@ -128,28 +198,44 @@ def delorme_poljak(K: Any, N: int, rng: np.random.Generator, *, steps: int = DP_
     return y, est
 
 
-def spectral_bound(problem: CanonicalProblem, ctx: SolveContext) -> Bound:
+def spectral_bound(problem: CanonicalProblem, ctx: SolveContext) -> Bound | None:
     """λ_max bound of the ghost-spin lift, improved by a few Delorme–Poljak steps on y.
 
-    Within the context's time limit: the Delorme–Poljak steps (dense eigen-solves) run
-    only when they and the Cholesky proof fit; when even the proof does not fit, the
-    bound comes from a Lanczos estimate and says "estimated".
+    Within what the plan allows (:func:`available`): the Delorme–Poljak steps (dense
+    eigen-solves) run only while they and the Cholesky proof fit; when even the proof does
+    not fit, the bound comes from a Lanczos estimate and says "estimated"; when not even
+    that fits, there is no bound (None).  Without a time limit the decisions use the
+    predicted costs only, so the same problem gets the same bound.
     """
     lifted = lift(problem)
     N = lifted.n
+    with limited_threads(N):
+        return _spectral(problem, lifted, N, ctx)
+
+
+def _spectral(problem: CanonicalProblem, lifted: CanonicalProblem, N: int, ctx: SolveContext) -> Bound | None:
     dense_limit = int(ctx.option("dense_limit", DENSE_LIMIT))
     proof = _cholesky_cost(N) if N <= dense_limit else float("inf")
-    dp_cost = (DP_STEPS + 2) * 4 * _cholesky_cost(N)
-    default = DP_STEPS if N <= eigen.EIGH_LIMIT and _fits(ctx, proof + dp_cost) else -1
+    one = _eigh_cost(N)
+    default = DP_STEPS if N <= eigen.EIGH_LIMIT and _fits(ctx, proof + (DP_STEPS + 2) * one) else -1
     steps = int(ctx.option("dp_steps", default))
+    start, allowance = time.perf_counter(), available(ctx)
     K = _couplings(lifted)
     if steps < 0:  # the plain eigenvalue bound, y = 0, from a cheap iterative estimate
         y = np.zeros(N)
-        est = eigen.estimate_iterative(K, y, ctx.rng, maxiter=100) if N > eigen.SMALL_SPARSE else None
+        est = None
+        if N > eigen.SMALL_SPARSE:
+            passes = _passes(allowance - (proof if _fits(ctx, proof) else 0.0), lifted)
+            if passes < MIN_PASSES:
+                return None
+            est = eigen.estimate_iterative(K, y, ctx.rng, passes=passes)
         if not _fits(ctx, proof):
             dense_limit = -1  # no time to prove it: bound_from_y then reports an estimate
     else:
-        y, est = delorme_poljak(K, N, ctx.rng, steps=steps, should_stop=ctx.should_stop)
+        def afford() -> bool:  # one more estimate, then the proof
+            used = time.perf_counter() - start if ctx.time_limit is not None else 0.0
+            return not ctx.should_stop() and allowance - used >= one + proof
+        y, est = delorme_poljak(K, N, ctx.rng, steps=steps, afford=afford)
     return bound_from_y(problem, y, method="spectral", rng=ctx.rng, dense_limit=dense_limit, est=est)
 
 
@@ -160,23 +246,46 @@ def dual_y(lifted: CanonicalProblem, V: np.ndarray) -> np.ndarray:
 
 
 def sdp_dual_bound(problem: CanonicalProblem, ctx: SolveContext) -> Bound | None:
-    """The SDP dual bound from a Burer–Monteiro factor (reused if the SDP solver left one)."""
-    factor = cached_factor(problem)
+    """The SDP dual bound from a Burer–Monteiro factor (reused if the SDP solver left one).
+
+    Any factor gives a valid bound (an unconverged one a weaker one), so the mixing method
+    runs only while the proof still fits after it: until the clock leaves the proof's time
+    (with a time limit), or for as many sweeps as the allowance pays for (without one).
+    """
     N = lift(problem).n
-    if factor is None and not _fits(ctx, 3 * _cholesky_cost(N) + _seconds_for(120.0 * N * N * math.sqrt(2 * N))):
-        return None  # neither a factor to reuse nor time to solve the SDP and prove it
-    if factor is not None and not _fits(ctx, _cholesky_cost(N)):
-        return None
+    with limited_threads(N):
+        return _dual(problem, N, ctx)
+
+
+def _dual(problem: CanonicalProblem, N: int, ctx: SolveContext) -> Bound | None:
+    factor = cached_factor(problem)
+    dense_limit = int(ctx.option("dense_limit", DENSE_LIMIT))
+    proof = _cholesky_cost(N) if N <= dense_limit else MIN_PASSES * _pass_cost(lift(problem))
+    sweep = _sweep_cost(lift(problem))
+    if not _fits(ctx, proof + (0.0 if factor is not None else MIN_SWEEPS * sweep)):
+        return None  # neither a factor and its proof, nor a few sweeps and a proof, fit the allowance
     if factor is None:
-        factor = solve_sdp(problem, rng=ctx.rng, tol=float(ctx.option("tol", SDP_TOL)),
-                           should_stop=ctx.should_stop)
+        allowance = available(ctx)
+        if ctx.time_limit is None:
+            sweeps = int(min(DEFAULT_MAX_SWEEPS, (allowance - proof) / sweep))
+            factor = solve_sdp(problem, rng=ctx.rng, tol=float(ctx.option("tol", SDP_TOL)), max_sweeps=sweeps,
+                               should_stop=ctx.should_stop)
+        else:
+            end = time.perf_counter() + allowance - proof
+            factor = solve_sdp(problem, rng=ctx.rng, tol=float(ctx.option("tol", SDP_TOL)),
+                               should_stop=lambda: ctx.should_stop() or time.perf_counter() > end)
         remember_factor(problem, factor)
     y = dual_y(lift(problem), factor.V)
     # Near the optimum λ_min(Diag(y) − K') ≈ 0 from below: try a small target slack before
     # paying for an estimate (the dense eigh estimate is cheap only for moderate N).
     first = None if y.shape[0] <= eigen.EIGH_LIMIT else -float(ctx.option("slack", SLACK)) * float(np.abs(y).mean())
+    left = available(ctx)
+    provable = N <= dense_limit and left >= _cholesky_cost(N)
+    passes = _passes(left - (_cholesky_cost(N) if provable else 0.0), lift(problem))
+    if not provable and passes < MIN_PASSES:
+        return None
     bound = bound_from_y(problem, y, method="sdp-dual", rng=ctx.rng, first=first, clustered=True,
-                         dense_limit=int(ctx.option("dense_limit", DENSE_LIMIT)))
+                         dense_limit=dense_limit if provable else -1, passes=passes)
     info = {**bound.info, "primal": float(factor.value), "sweeps": factor.sweeps, "converged": factor.converged}
     return Bound(bound.value, bound.certified, bound.method, info)
 

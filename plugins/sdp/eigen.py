@@ -20,6 +20,7 @@ import numpy as np
 UNIT = 2.0 ** -53          # unit roundoff of float64
 EIGH_LIMIT = 2500          # dense eigh (subset) estimates up to this size; lobpcg beyond
 SMALL_SPARSE = 400         # sparse K this small is densified for the estimate (lobpcg overhead dominates)
+LANCZOS_BASIS = 20         # ARPACK's Lanczos basis size (one restart costs about this many products with K)
 
 
 @dataclass(frozen=True)
@@ -89,13 +90,14 @@ def _rayleigh(K: Any, y: np.ndarray, u: np.ndarray, method: str) -> Estimate:
     return Estimate(theta, u, residual_norm(K, y, theta, u), method)
 
 
-def estimate_iterative(K: Any, y: np.ndarray, rng: np.random.Generator, *, maxiter: int = 300,
+def estimate_iterative(K: Any, y: np.ndarray, rng: np.random.Generator, *, passes: int = 2000,
                        x0: np.ndarray | None = None, clustered: bool = False) -> Estimate:
     """Lanczos (ARPACK) estimate of λ_min(Diag(y) − K); LOBPCG when ``clustered`` or unconverged.
 
-    At an SDP optimum the bottom of the spectrum clusters near 0 and Lanczos
-    crawls, so the dual bound asks for LOBPCG.  Either may stop unconverged;
-    the Rayleigh quotient θ is still ≥ λ_min.
+    ``passes`` caps the products with K (ARPACK restarts cost about ``LANCZOS_BASIS`` each,
+    a LOBPCG iteration about its block width).  At an SDP optimum the bottom of the spectrum
+    clusters near 0 and Lanczos crawls, so the dual bound asks for LOBPCG.  Either may stop
+    unconverged; the Rayleigh quotient θ is still ≥ λ_min.
     """
     import scipy.sparse.linalg as sla
 
@@ -103,31 +105,37 @@ def estimate_iterative(K: Any, y: np.ndarray, rng: np.random.Generator, *, maxit
     op = _operator(K, y)
     v0 = rng.standard_normal(N) if x0 is None else np.asarray(x0, dtype=np.float64)
     if not clustered:
+        basis = min(N - 1, LANCZOS_BASIS)
         try:
-            _, U = sla.eigsh(op, k=1, which="SA", v0=v0, tol=1e-6, maxiter=maxiter)
+            _, U = sla.eigsh(op, k=1, which="SA", v0=v0, tol=1e-6, ncv=basis, maxiter=max(1, passes // basis))
             return _rayleigh(K, y, U[:, 0], "lanczos")
         except sla.ArpackNoConvergence as exc:
             if exc.eigenvectors is not None and exc.eigenvectors.size:
                 return _rayleigh(K, y, exc.eigenvectors[:, 0], "lanczos (unconverged)")
-    X = rng.standard_normal((N, min(4, max(1, N // 4))))
+        passes = passes // 2  # the rest of the allowance for LOBPCG
+    width = min(4, max(1, N // 4))
+    X = rng.standard_normal((N, width))
     X[:, 0] = v0
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        w, U = sla.lobpcg(op, X, largest=False, tol=1e-9, maxiter=maxiter if clustered else 60)
+        w, U = sla.lobpcg(op, X, largest=False, tol=1e-9, maxiter=max(1, passes // (2 * width)))
     return _rayleigh(K, y, U[:, int(np.argmin(w))], "lobpcg")
 
 
 def estimate(K: Any, y: np.ndarray, rng: np.random.Generator, *, x0: np.ndarray | None = None,
-             clustered: bool = False) -> Estimate:
-    """The cheapest good estimate for this size and kind (see :func:`estimate_iterative`)."""
+             clustered: bool = False, passes: int | None = None) -> Estimate:
+    """The cheapest good estimate for this size and kind (see :func:`estimate_iterative`).
+
+    ``passes`` caps the products with K of an iterative estimate (default: 2000 on a dense K,
+    6000 on a sparse one, whose products are cheap).
+    """
     if not isinstance(K, np.ndarray) and y.shape[0] <= SMALL_SPARSE:
         K = np.asarray(K.toarray(), dtype=np.float64)
     if isinstance(K, np.ndarray):
         if y.shape[0] <= EIGH_LIMIT:
             return estimate_dense(K, y)
-        return estimate_iterative(K, y, rng, x0=x0, maxiter=100, clustered=clustered)
-    # sparse products are cheap: allow more iterations
-    return estimate_iterative(K, y, rng, x0=x0, maxiter=300 if clustered else 1000, clustered=clustered)
+        return estimate_iterative(K, y, rng, x0=x0, passes=passes or 2000, clustered=clustered)
+    return estimate_iterative(K, y, rng, x0=x0, passes=passes or 6000, clustered=clustered)
 
 
 def scale_of(K: Any, y: np.ndarray) -> float:
@@ -168,7 +176,7 @@ def certify_min_eig(K: np.ndarray, y: np.ndarray, est: Estimate | None, rng: np.
         lower = verified_min_eig(K, y, est.theta - delta)
         if lower is not None:
             return lower, attempts
-        if est.method != "eigh":
+        if est.method != "eigh" and N <= EIGH_LIMIT:  # a dense eigh beyond that costs more than the proof
             est = estimate_dense(K, y)
             delta = estimate_slack(est, scale, N)
         else:

@@ -11,7 +11,10 @@ from __future__ import annotations
 from collections.abc import Callable
 from typing import Any
 
+from pydantic import Field
+
 from spinward.core import Capabilities, CanonicalProblem, Solution, SolveContext, SolverSpec, hookimpl
+from spinward.core.options import SolverOptions
 
 
 def _run_mincut(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
@@ -59,6 +62,21 @@ def _fit(score: float) -> Callable[[Any], float]:
     return fit
 
 
+class CutOptions(SolverOptions):
+    """Options of the minimum-cut solvers."""
+
+    max_levels: int = Field(12, ge=1, le=64, description="refinement levels of the exact integer max-flow")
+
+
+class TreeOptions(SolverOptions):
+    """Options of tree dynamic programming."""
+
+    max_width: int = Field(20, ge=1, le=30, description="widest bag allowed (the DP keeps 2^width states per bag)")
+    order_time: float = Field(2.0, gt=0.0, description="seconds to search for an elimination order "
+                                                        "(without a time limit; with one, a share of it)")
+    max_memory_mb: int = Field(1024, ge=1, description="memory for the arg-max tables kept to read the optimum back")
+
+
 # No ``assumptions``: each condition is enforced by the solver's check, which declines with its reason.
 _EXACT: dict[str, Any] = dict(exact=True, fields=True, dense=True, sparse=True, operator=False, stochastic=False)
 
@@ -67,19 +85,19 @@ SPECS = [
         name="mincut", run=_run_mincut, check=_check_mincut, fit=_fit(100.0),
         capabilities=Capabilities(**_EXACT),
         summary="exact s–t minimum cut for ferromagnetic / submodular problems with any fields",
-        options={"max_levels": 12},
+        options=CutOptions,
     ),
     SolverSpec(
         name="unfrustrated", run=_run_unfrustrated, check=_check_unfrustrated, fit=_fit(90.0),
         capabilities=Capabilities(**_EXACT),
         summary="exact for couplings with no frustrated cycle: spin flips make them ferromagnetic (min-cut with fields)",
-        options={"max_levels": 12},
+        options=CutOptions,
     ),
     SolverSpec(
         name="treedp", run=_run_treedp, check=_check_treedp, fit=_fit(80.0),
         capabilities=Capabilities(**_EXACT),
         summary="exact dynamic programming over a tree decomposition of low width",
-        options={"max_width": 20, "order_time": 2.0, "max_memory_mb": 1024},
+        options=TreeOptions,
     ),
 ]
 

@@ -41,8 +41,26 @@ from ..common.flips import local_search, random_spins
 from . import mincut
 
 DEFAULT_WIDTH = 20
-DEFAULT_ORDER_TIME = 2.0      # seconds for the elimination heuristics (in check and run)
+DEFAULT_ORDER_TIME = 2.0      # seconds' worth of work for the elimination heuristics (without a time limit)
 DEFAULT_MEMORY_MB = 1024      # arg-max tables kept for the read-back
+WORK_PER_SECOND = 3e6         # fill-in work units (Σ (|N|² + 1) per elimination) per second, measured here
+ORDER_SHARE = 0.2             # with a time limit: at most this share of the step goes to the order search
+MIN_DEGREE_MAX_N = 5000       # above this, only the (fast) bandwidth orders are tried
+BANDWIDTH_FACTOR = 4          # above that size, a bandwidth beyond this many times the width limit declines
+
+
+@dataclass
+class Budget:
+    """How long an order search may go on: a count of work units, and with a time limit a deadline.
+
+    Work, not seconds, without a time limit: the same problem then gets the same answer.
+    """
+
+    work: float
+    deadline: float | None = None
+
+    def spent(self, done: float) -> bool:
+        return done > self.work or (self.deadline is not None and time.perf_counter() > self.deadline)
 
 
 @dataclass
@@ -55,14 +73,36 @@ class Elimination:
     seconds: float = 0.0
     cost: int = 0                       # Σ 2^(|N|+1): table entries touched
     memory: int = 0                     # bytes of packed arg-max tables
+    work: int = 0                       # Σ (|N|² + 1): fill-in work of the search
 
 
 def adjacency(n: int, i: np.ndarray, j: np.ndarray) -> list[set[int]]:
-    adj: list[set[int]] = [set() for _ in range(n)]
-    for a, b in zip(i.tolist(), j.tolist()):
-        adj[a].add(b)
-        adj[b].add(a)
-    return adj
+    """Neighbour sets, built from a CSR pattern (one slice per spin, no loop over edges)."""
+    import scipy.sparse as sp
+
+    ones = np.ones(2 * i.size, dtype=np.int8)
+    A = sp.csr_array((ones, (np.concatenate([i, j]), np.concatenate([j, i]))), shape=(n, n))
+    ptr, idx = A.indptr, A.indices.tolist()
+    return [set(idx[ptr[v]:ptr[v + 1]]) for v in range(n)]
+
+
+def rcm_order(n: int, i: np.ndarray, j: np.ndarray) -> np.ndarray:
+    """The reverse Cuthill–McKee order of the coupling graph (scipy)."""
+    import scipy.sparse as sp
+    from scipy.sparse.csgraph import reverse_cuthill_mckee
+
+    ones = np.ones(2 * i.size, dtype=np.int8)
+    A = sp.csr_array((ones, (np.concatenate([i, j]), np.concatenate([j, i]))), shape=(n, n))
+    return reverse_cuthill_mckee(A, symmetric_mode=True).astype(np.int64)
+
+
+def bandwidth(order: np.ndarray, i: np.ndarray, j: np.ndarray) -> int:
+    """max |pos(u) − pos(v)| over the couplings: an upper bound on the width of eliminating in ``order``."""
+    if not i.size:
+        return 0
+    pos = np.empty(order.size, dtype=np.int64)
+    pos[order] = np.arange(order.size)
+    return int(np.max(np.abs(pos[i] - pos[j])))
 
 
 def eliminate_spin(adj: list[set[int]], v: int, elim: Elimination) -> None:
@@ -77,6 +117,7 @@ def eliminate_spin(adj: list[set[int]], v: int, elim: Elimination) -> None:
     elim.order.append(v)
     elim.scopes.append(list(nb))
     elim.width, elim.cost, elim.memory = max(elim.width, d), elim.cost + 2 ** (d + 1), elim.memory + 2**d // 8 + 1
+    elim.work += d * d + 1
     adj[v] = set()
 
 
@@ -84,12 +125,13 @@ def too_wide(d: int, limit: int, done: int, n: int, name: str) -> str:
     return f"the {name} order reached a bag of width {d} > {limit} after eliminating {done} of {n} spins"
 
 
-def too_slow(budget: float, done: int, n: int, name: str) -> str:
-    return f"the {name} order ran past its {budget:g} s budget after {done} of {n} spins"
+def too_slow(budget: Budget, done: int, n: int, name: str) -> str:
+    return (f"the {name} order used up its search budget ({budget.work / WORK_PER_SECOND:.3g} s of work"
+            + (" or the time limit" if budget.deadline is not None else "") + f") after {done} of {n} spins")
 
 
-def min_degree_order(adj: list[set[int]], limit: int, budget: float) -> Elimination | str:
-    """Greedy min-degree elimination; a reason string once a bag exceeds ``limit`` or time runs out."""
+def min_degree_order(adj: list[set[int]], limit: int, budget: Budget) -> Elimination | str:
+    """Greedy min-degree elimination; a reason string once a bag exceeds ``limit`` or the budget is spent."""
     start, n = time.perf_counter(), len(adj)
     heap = [(len(a), v) for v, a in enumerate(adj)]
     heapq.heapify(heap)
@@ -105,13 +147,13 @@ def min_degree_order(adj: list[set[int]], limit: int, budget: float) -> Eliminat
             heapq.heappush(heap, (len(adj[u] | adj[v]) - 2, u))
         eliminate_spin(adj, v, elim)
         gone[v] = 1
-        if len(elim.order) % 256 == 0 and time.perf_counter() - start > budget:
+        if len(elim.order) % 256 == 0 and budget.spent(elim.work):
             return too_slow(budget, len(elim.order), n, "min-degree")
     elim.seconds = time.perf_counter() - start
     return elim
 
 
-def fixed_order(adj: list[set[int]], order: np.ndarray, limit: int, budget: float, name: str) -> Elimination | str:
+def fixed_order(adj: list[set[int]], order: np.ndarray, limit: int, budget: Budget, name: str) -> Elimination | str:
     """Eliminate in a given order (a bandwidth order suits grids and ladders), stopping early."""
     start, n = time.perf_counter(), len(adj)
     elim = Elimination([], [])
@@ -119,35 +161,34 @@ def fixed_order(adj: list[set[int]], order: np.ndarray, limit: int, budget: floa
         if len(adj[v]) > limit:
             return too_wide(len(adj[v]), limit, len(elim.order), n, name)
         eliminate_spin(adj, v, elim)
-        if len(elim.order) % 256 == 0 and time.perf_counter() - start > budget:
+        if len(elim.order) % 256 == 0 and budget.spent(elim.work):
             return too_slow(budget, len(elim.order), n, name)
     elim.seconds = time.perf_counter() - start
     return elim
 
 
-def candidates(n: int, i: np.ndarray, j: np.ndarray, limit: int, budget: float) -> list[Elimination | str]:
-    """Both Cuthill–McKee orders (fast to finish or to fail), then min-degree, within one budget.
+def candidates(n: int, i: np.ndarray, j: np.ndarray, limit: int, budget: Budget) -> list[Elimination | str]:
+    """Both Cuthill–McKee orders (fast to finish or to fail), then min-degree (up to
+    ``MIN_DEGREE_MAX_N`` spins), within one budget shared by all.
 
     Each later candidate only has to beat the narrowest order found so far.
     """
-    import scipy.sparse as sp
-    from scipy.sparse.csgraph import reverse_cuthill_mckee
-
-    deadline = time.perf_counter() + budget
-    orders: list[tuple[str, np.ndarray | None]] = [("min-degree", None)]
+    orders: list[tuple[str, np.ndarray | None]] = [("min-degree", None)] if n <= MIN_DEGREE_MAX_N else []
     if i.size:  # without couplings every order has width 0
-        ones = np.ones(2 * i.size, dtype=np.int8)
-        A = sp.csr_array((ones, (np.concatenate([i, j]), np.concatenate([j, i]))), shape=(n, n))
-        rcm = reverse_cuthill_mckee(A, symmetric_mode=True).astype(np.int64)
+        rcm = rcm_order(n, i, j)
         orders = [("reverse Cuthill-McKee", rcm), ("Cuthill-McKee", rcm[::-1]), *orders]
     found: list[Elimination | str] = []
     for name, order in orders:
         best = min((f.width for f in found if isinstance(f, Elimination)), default=limit + 1)
-        cap, left = min(limit, best - 1), deadline - time.perf_counter()
-        if cap < 0 or left <= 0:
+        cap = min(limit, best - 1)
+        spent = sum(f.work for f in found if isinstance(f, Elimination))
+        if cap < 0 or budget.spent(spent):
             break
+        left = Budget(budget.work - spent, budget.deadline)
         adj = adjacency(n, i, j)
         found.append(min_degree_order(adj, cap, left) if order is None else fixed_order(adj, order, cap, left, name))
+    if not orders:
+        found.append(f"{n} spins: the min-degree search runs only up to {MIN_DEGREE_MAX_N}")
     return found
 
 
@@ -162,22 +203,23 @@ def sort_scopes(elim: Elimination) -> None:
     elim.scopes = [sorted(S, key=rank.__getitem__, reverse=True) for S in elim.scopes]
 
 
-def decompose(problem: CanonicalProblem, limit: int, budget: float) -> Elimination | str:
+def decompose(problem: CanonicalProblem, limit: int, budget: Budget) -> Elimination | str:
     """The narrowest elimination found for ``problem``, or why there is none.
 
     A success is cached per width limit (a later call with another budget reuses it);
-    a failure is cached per limit and budget.
+    a failure is cached per limit and work budget when no deadline cut it.
     """
-    done, failed = ("_treedp_elimination", limit), ("_treedp_failure", limit, budget)
+    done, failed = ("_treedp_elimination", limit), ("_treedp_failure", limit, budget.work)
     for key in (done, failed):
         if key in problem.meta:
             return problem.meta[key]
     found = search(problem, limit, budget)
-    problem.meta[done if isinstance(found, Elimination) else failed] = found
+    if isinstance(found, Elimination) or budget.deadline is None:
+        problem.meta[done if isinstance(found, Elimination) else failed] = found
     return found
 
 
-def search(problem: CanonicalProblem, limit: int, budget: float) -> Elimination | str:
+def search(problem: CanonicalProblem, limit: int, budget: Budget) -> Elimination | str:
     n, m = problem.n, problem.n_couplings()
     if m > limit * n:  # a graph of treewidth ≤ w has fewer than w·n edges
         return f"{m} couplings on {n} spins is more than a graph of treewidth ≤ {limit} can have"
@@ -186,7 +228,7 @@ def search(problem: CanonicalProblem, limit: int, budget: float) -> Elimination 
     tried = candidates(n, i, j, limit, budget)
     good = [f for f in tried if isinstance(f, Elimination)]
     if not good:
-        return "; ".join(str(f) for f in tried) or f"no time was left to search for an order (budget {budget:g} s)"
+        return "; ".join(str(f) for f in tried) or "no budget was left to search for an order"
     found = min(good, key=lambda e: (e.width, e.cost))
     found.seconds = time.perf_counter() - start  # the whole search, all candidates
     sort_scopes(found)
@@ -194,20 +236,33 @@ def search(problem: CanonicalProblem, limit: int, budget: float) -> Elimination 
 
 
 def check(problem: CanonicalProblem) -> bool | str:
-    """True when an elimination order of width ≤ 20 is found within the budget and memory, else why not."""
+    """True unless a cheap fact rules out width ≤ 20 (the order search itself runs in :func:`solve_low_width`)."""
     if problem.kind == "operator":
         return "tree DP needs explicit couplings, not a LinearOperator"
     prof = profile_of(problem)
     if prof.degeneracy is not None and prof.degeneracy > DEFAULT_WIDTH:
-        return f"treewidth is at least {prof.degeneracy} (the graph's degeneracy), above the limit of {DEFAULT_WIDTH}"
+        return f"treewidth is at least {prof.degeneracy} (from the degree sequence), above the limit of {DEFAULT_WIDTH}"
     if prof.dense and prof.n > 2 * DEFAULT_WIDTH:
         return f"dense couplings ({100 * prof.density:.3g}% of pairs): treewidth far above {DEFAULT_WIDTH}"
-    found = decompose(problem, DEFAULT_WIDTH, DEFAULT_ORDER_TIME)
-    if isinstance(found, str):
-        return found
-    if found.memory > DEFAULT_MEMORY_MB * 2**20:
-        return f"the DP would keep {found.memory / 2**20:.0f} MB of tables (limit {DEFAULT_MEMORY_MB} MB)"
+    if prof.couplings > DEFAULT_WIDTH * prof.n:
+        return f"{prof.couplings} couplings on {prof.n} spins: more than a graph of treewidth ≤ {DEFAULT_WIDTH} has"
+    if prof.treewidth is not None and prof.treewidth > DEFAULT_WIDTH and prof.n <= 64:
+        return f"its elimination orders are wider than {DEFAULT_WIDTH} (min-degree found {prof.treewidth})"
+    if prof.n > MIN_DEGREE_MAX_N:  # only the bandwidth orders will be tried: decline when they are far too wide
+        width = _rcm_bandwidth(problem)
+        if width > BANDWIDTH_FACTOR * DEFAULT_WIDTH:
+            return (f"n = {prof.n} is above {MIN_DEGREE_MAX_N}, where only bandwidth orders are tried, and the "
+                    f"reverse Cuthill–McKee bandwidth is {width}")
     return True
+
+
+def _rcm_bandwidth(problem: CanonicalProblem) -> int:
+    cached = problem.meta.get("_treedp_bandwidth")
+    if cached is None:
+        i, j, _ = mincut.couplings_upper(problem)
+        cached = bandwidth(rcm_order(problem.n, i, j), i, j)
+        problem.meta["_treedp_bandwidth"] = cached
+    return cached
 
 
 def into_axes(axes: dict[int, int], ndim: int, scope: list[int], table: np.ndarray) -> np.ndarray:
@@ -302,10 +357,12 @@ def fallback(problem: CanonicalProblem, ctx: SolveContext, info: dict[str, Any])
 def solve_low_width(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     """Exact optimum by DP when the width is at most ``max_width`` (module docstring)."""
     limit = int(ctx.option("max_width", DEFAULT_WIDTH))
-    budget = float(ctx.option("order_time", DEFAULT_ORDER_TIME))
-    if ctx.remaining() < budget:  # the time limit also bounds the search for an order
-        budget = max(ctx.remaining(), 0.0)
-    found = decompose(problem, limit, budget)
+    seconds = float(ctx.option("order_time", DEFAULT_ORDER_TIME))
+    deadline = None
+    if ctx.time_limit is not None:  # the time limit also bounds the search for an order
+        seconds = min(seconds, ORDER_SHARE * max(ctx.remaining(), 0.0))
+        deadline = time.perf_counter() + seconds
+    found = decompose(problem, limit, Budget(seconds * WORK_PER_SECOND, deadline))
     if isinstance(found, str) and ctx.should_stop():
         return fallback(problem, ctx, {"stopped": f"time limit while searching for an order: {found}"})
     if isinstance(found, str):

@@ -122,7 +122,8 @@ def solve_frustration_free(problem: CanonicalProblem, ctx: SolveContext) -> Solu
         slack = 1e-12 * (abs(bound) + 1.0)  # C(σ) is evaluated in floating point
         return Solution(sigma=sigma, exact=True, bound=max(bound, value) + slack,
                         info={"method": "gauge fixing", "fields": False})
-    sub_ctx = ctx.child(max_levels=ctx.option("max_levels", mincut.DEFAULT_LEVELS))  # its incumbent is gauged
+    levels = ctx.option("max_levels", mincut.DEFAULT_LEVELS)
+    sub_ctx = ctx.child(options={"max_levels": levels}, embed=lambda s, v: ((s * tau).astype(np.int8), v))
     sub = mincut.solve_ferromagnet(gauged(problem, tau), sub_ctx)
     sigma = (tau * sub.sigma).astype(np.int8)
     ctx.offer(sigma, problem.value(sigma))

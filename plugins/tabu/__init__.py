@@ -44,18 +44,21 @@ from __future__ import annotations
 
 import math
 import time
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 
+from pydantic import Field
+
 from spinward.core import Capabilities, CanonicalProblem, InputError, Solution, SolveContext, SolverSpec, hookimpl
+from spinward.core.options import SolverOptions
 
 from ..annealing import coupling_scale
 from ..common.couplings import working_couplings
 from ..common.flips import local_search, random_spins
+from ..common.offers import OfferPace
 
 CHUNK_SECONDS = 0.05
-OFFER_SECONDS = 1.0
 MAX_CHUNK = 10**8
 KICK_GROWTH = 1.5
 ANNEAL_SHARE = 0.8  # of the time left, for the anneal that seeds a walk (dense K)
@@ -70,11 +73,24 @@ BALL_HEAT = 0.6  # their start temperature, in units of the coupling scale (RMS 
 BALL_ANNEAL_KICKS_PER_SPIN = 300  # annealed ball kicks per spin without a time limit
 STARTS = ("auto", "anneal", "ball-anneal", "random")
 
-OPTIONS: dict[str, Any] = {
-    "initial": None,
-    "moves": None, "restarts": None, "tenure": None, "stall": None, "perturb": 0.02, "precision": "auto",
-    "start": "auto", "ball_kicks": None,
-}
+class TabuOptions(SolverOptions):
+    """Options of tabu search (see the module docstring)."""
+
+    initial: Any = Field(None, description="canonical ±1 start state (the front door fills it from solve's "
+                                           "initial=, or from the primary's state when tabu improves it)")
+    moves: int | None = Field(None, ge=1, description="moves per walk (default 200n + 10⁵ sparse, 50n + 10⁴ dense; "
+                                                      "with a time limit, until the clock stops)")
+    restarts: int | None = Field(None, ge=1, description="walks from fresh starts (default 1)")
+    tenure: int | None = Field(None, ge=1, description="moves a flipped spin stays tabu (default max(10, n/10) "
+                                                       "sparse, max(10, n/30) dense)")
+    stall: int | None = Field(None, ge=1, description="moves without a new best before a kick (default max(2000, 2n))")
+    perturb: float = Field(0.02, gt=0.0, le=1.0, description="share of spins a kick flips")
+    precision: Literal["auto", "float32", "float64"] = Field("auto", description="working copy of the couplings")
+    start: Literal["auto", "anneal", "ball-anneal", "random"] = Field("auto", description="where a walk starts")
+    ball_kicks: int | None = Field(None, ge=0, description="ball kicks before the walk (sparse couplings; 0: none)")
+
+
+OPTIONS: dict[str, Any] = {name: field.default for name, field in TabuOptions.model_fields.items()}
 
 
 def _positive(name: str, value: Any, default: int) -> int:
@@ -99,7 +115,7 @@ def read_options(problem: CanonicalProblem, ctx: SolveContext) -> dict[str, Any]
     budget = 200 * n + 100_000 if problem.kind == "sparse" else 50 * n + 10_000  # a dense move costs O(n)
     return {
         "moves": math.inf if (moves is None and timed) else _positive("moves", moves, budget),
-        "restarts": _positive("restarts", ctx.option("restarts", None), 1),
+        "restarts": _positive("restarts", ctx.option("restarts", None), max(1, ctx.solutions)),
         "tenure": min(tenure, max(n - 1, 1)),
         "stall": _positive("stall", ctx.option("stall", None), max(2000, 2 * n)),
         "kicks": max(2, min(n, round(perturb * n))),
@@ -181,7 +197,8 @@ def walk_once(walk: Walk, opts: dict[str, Any], ctx: SolveContext) -> tuple[int,
     escapes a basin that plain tabu moves keep returning to; past n/2 the strength
     starts again from its base.
     """
-    done, kicks, chunk, last_offer = 0, 0, 1000, time.perf_counter()
+    done, kicks, chunk = 0, 0, 1000
+    offer = OfferPace(walk.problem, ctx)  # each new best, after the chunk that found it
     strength, best_at_kick = opts["kicks"], -math.inf
     while done < opts["moves"]:
         t0 = time.perf_counter()
@@ -201,9 +218,7 @@ def walk_once(walk: Walk, opts: dict[str, Any], ctx: SolveContext) -> tuple[int,
             kicks += 1
         if ctx.should_stop():
             return done, kicks, False
-        if time.perf_counter() - last_offer > OFFER_SECONDS:
-            ctx.offer(walk.best_sigma, walk.problem.value(walk.best_sigma))
-            last_offer = time.perf_counter()
+        offer(walk.best_sigma, float(walk.vals[walk.kern.BEST]))
     return done, kicks, True
 
 
@@ -364,9 +379,10 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
         if ctx.should_stop():
             break
     assert ctx.best_sigma is not None
-    return Solution(sigma=ctx.best_sigma, info={"restarts": runs, "moves": moves, "perturbations": kicks,
-                                                "ball_kicks": balls, "finished": finished, "tenure": opts["tenure"],
-                                                "start": mode})
+    clock = ctx.time_limit is not None and (runs < opts["restarts"] or not finished)  # the clock ended it
+    return Solution(sigma=ctx.best_sigma, status="time-limit" if clock else None,
+                    info={"restarts": runs, "moves": moves, "perturbations": kicks, "ball_kicks": balls,
+                          "finished": finished, "tenure": opts["tenure"], "start": mode})
 
 
 def fit(problem: Any) -> float:
@@ -381,9 +397,9 @@ def fit(problem: Any) -> float:
 SPEC = SolverSpec(
     name="tabu",
     run=run,
-    capabilities=Capabilities(operator=False, warm_start=True),
+    capabilities=Capabilities(operator=False, warm_start=True, several=True),
     summary="one-flip tabu search with aspiration and perturbation restarts; ball kicks on sparse couplings",
-    options=OPTIONS,
+    options=TabuOptions,
     fit=fit,
 )
 

@@ -8,6 +8,7 @@ way: ``spinward.cli`` collects these subcommands, and this module never imports 
 from __future__ import annotations
 
 import argparse
+import math
 import sys
 from pathlib import Path
 from typing import Any
@@ -17,6 +18,16 @@ def _positive_int(text: str) -> int:
     value = int(text)
     if value < 1:
         raise argparse.ArgumentTypeError(f"must be a positive integer, got {text!r}")
+    return value
+
+
+def _positive_float(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"must be a positive number, got {text!r}") from None
+    if not (value > 0 and math.isfinite(value)):
+        raise argparse.ArgumentTypeError(f"must be a positive number, got {text!r}")
     return value
 
 
@@ -33,6 +44,10 @@ def add_bench_parser(subparsers: Any) -> argparse.ArgumentParser:
                    help="address of a running Dask scheduler, e.g. tcp://10.0.0.5:8786 (implies --executor dask)")
     p.add_argument("--progress", choices=("auto", "bar", "lines", "none"), default="auto",
                    help="progress display (auto: a bar on a terminal, plain lines otherwise)")
+    p.add_argument("--lease", type=_positive_float, default=None, metavar="SECONDS",
+                   help="how long a claim on a run lasts unless renewed (default 60); runners sharing the "
+                        "database take over the runs of a runner that died once its claims expire "
+                        "(at once on the same machine)")
     p.set_defaults(func=cmd_bench)
     return p
 
@@ -53,27 +68,30 @@ def add_report_parser(subparsers: Any) -> argparse.ArgumentParser:
 
 
 def cmd_bench(args: argparse.Namespace) -> int:
-    from .runner import dask_executor, run_suite
+    from .runner import LEASE_SECONDS, dask_executor, run_suite
     from .store import Store
     from .suite import load_suite
 
     suite = load_suite(args.suite)
     use_dask = args.executor == "dask" or args.scheduler is not None
+    lease = args.lease or LEASE_SECONDS
     with Store(args.db) as store:
         try:
             if use_dask:
                 with dask_executor(args.scheduler, args.workers) as ex:
-                    summary = run_suite(suite, store, executor=ex, workers=args.workers, progress=args.progress)
+                    summary = run_suite(suite, store, executor=ex, workers=args.workers, progress=args.progress,
+                                        lease=lease)
             else:
-                summary = run_suite(suite, store, workers=args.workers, progress=args.progress)
+                summary = run_suite(suite, store, workers=args.workers, progress=args.progress, lease=lease)
         except KeyboardInterrupt:
             sys.stderr.write(f"spinward: interrupted; {store.count()} runs are stored in {args.db}, "
                              f"rerun the same command to continue\n")
             return 130
     for note in summary.notes:
         print(f"note: {note}")
-    print(f"{summary.planned} runs planned, {summary.already_stored} already stored, {summary.stored} stored now, "
-          f"{summary.not_stored} not stored, in {summary.seconds:.1f} s -> {args.db}")
+    others = f", {summary.by_others} stored by another runner" if summary.by_others else ""
+    print(f"{summary.planned} runs planned, {summary.already_stored} already stored, {summary.stored} stored now"
+          f"{others}, {summary.not_stored} not stored, in {summary.seconds:.1f} s -> {args.db}")
     return 0
 
 

@@ -9,6 +9,7 @@ import pytest
 import spinward
 from spinward.core.profile import profile_of
 from spinward.core.spectrum import lanczos_ritz
+from spinward.plugins.iamp.prediction import mean_field, suitability
 
 
 def _sk(n, rng, pm=False):
@@ -23,13 +24,13 @@ def test_sk_gaussian_looks_mean_field(rng):
     assert p.excess_kurtosis == pytest.approx(0.0, abs=0.3)  # Gaussian excess kurtosis 0 (handbook fact)
     # largest eigenvalue of J/√n → 2 (Wigner semicircle; Füredi & Komlós 1981); Lanczos estimate from below
     assert 1.8 < p.top_eigenvalues[0] < 2.1
-    assert p.mean_field
+    assert mean_field(p)  # the IAMP plugin's reading of the profile
 
 
 def test_pm_one_couplings_have_excess_kurtosis_minus_two(rng):
     p = profile_of(_sk(600, rng, pm=True))
     assert p.excess_kurtosis == pytest.approx(-2.0, abs=0.05)  # ±1 entries: E x⁴ / (E x²)² − 3 = −2
-    assert p.mean_field
+    assert mean_field(p)  # the IAMP plugin's reading of the profile
 
 
 def test_rank_one_outlier_is_flagged(rng):
@@ -41,14 +42,14 @@ def test_rank_one_outlier_is_flagged(rng):
     np.fill_diagonal(K, 0)
     p = profile_of(spinward.canonical(spinward.Ising(np.triu(K, 1))))
     assert p.top_eigenvalues[0] == pytest.approx(theta + 1 / theta, rel=0.08)
-    assert not p.mean_field and any("outlier" in r for r in p.mean_field_reasons)
+    assert not mean_field(p) and any("outlier" in r for r in suitability(p)[1])
 
 
 def test_dense_unit_graph_reports_its_mean():
     g = nx.gnp_random_graph(400, 0.5, seed=2)
     p = profile_of(spinward.canonical(g))
     assert p.mean == pytest.approx(-0.25, abs=0.01)      # K = −w/2 with edge probability 1/2
-    assert p.mean_outlier > 1 and any("mean" in r for r in p.mean_field_reasons)
+    assert p.mean_outlier > 1 and any("mean" in r for r in suitability(p)[1])
 
 
 def test_structure_flags(rng):

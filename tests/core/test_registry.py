@@ -62,20 +62,41 @@ def test_can_run_gives_reasons():
     assert _spec().can_run(p) is True
 
 
-def test_callable_method_and_unknown_option_warning():
+def test_callable_method_takes_any_option_and_a_typo_in_a_named_one_is_an_error():
     def all_down(problem, ctx):
         return -np.ones(problem.n)
 
-    r = spinward.solve(nx.path_graph(3), method=all_down)
+    r = spinward.solve(nx.path_graph(3), method=all_down, frobnicate=3)
     assert r.solver == "all_down" and r.objective == 0
-    with pytest.warns(spinward.OptionWarning, match="'frobnicate'"):
+    with pytest.raises(spinward.InputError, match="local: unknown option 'frobnicate'.*Its options: restarts, initial"):
         spinward.solve(nx.path_graph(3), method="local", frobnicate=3)
+    with pytest.raises(spinward.InputError, match="Did you mean 'tenure'"):
+        spinward.solve(nx.path_graph(3), method="tabu", tenur=5)
+
+
+@pytest.mark.parametrize("value", [2.7, "5", True, 0])
+def test_wrong_type_or_range_names_the_option(value):
+    with pytest.raises(spinward.InputError, match="tabu: option 'tenure'"):
+        spinward.solve(nx.path_graph(3), method="tabu", tenure=value)
+
+
+def test_auto_takes_solver_options_by_name():
+    with pytest.raises(spinward.InputError, match="solver_options"):
+        spinward.solve(nx.path_graph(30), sweeps=10)
+    with pytest.raises(spinward.InputError, match="anneal: unknown option 'sweep'"):
+        spinward.solve(nx.path_graph(30), solver_options={"anneal": {"sweep": 10}})
+    with pytest.raises(spinward.UnknownMethodError):
+        spinward.solve(nx.path_graph(30), solver_options={"no-such": {}})
+    r = spinward.solve(nx.petersen_graph(), seed=0, solver_options={"anneal": {"sweeps": 300, "restarts": 4}},
+                       candidates=("anneal",))
+    assert r.solver == "anneal" and r.info["restarts"] == 4
+    assert r.objective == 12  # Petersen graph MaxCut = 12 (graph-theory folklore, from memory)
 
 
 def test_solver_returning_wrong_shape_is_caught():
     reg = Registry(autoload=False)
     reg.add_solver(SolverSpec(name="broken", run=lambda p, c: Solution(sigma=np.ones(p.n + 1))))
-    with pytest.raises(spinward.SpinwardError, match="expected 3 spins"):
+    with pytest.raises(spinward.InternalError, match="expected 3 spins"):
         spinward.solve(nx.path_graph(3), method="broken", registry=reg)
 
 

@@ -65,6 +65,18 @@ def test_suite_errors_name_the_field(tmp_path):
         load_suite(write(tmp_path, 'colour = 3\n[[solvers]]\nname = "local"\n'))
     with pytest.raises(InputError, match="not valid TOML"):
         load_suite(write(tmp_path, "name = \n"))
+    twice = '[[solvers]]\nname = "anneal"\n[[solvers]]\nname = "anneal"\noptions = { sweeps = 10 }\n'
+    with pytest.raises(InputError, match="'anneal'.*more than once.*label"):
+        load_suite(write(tmp_path, twice, "t.toml"))
+    with pytest.raises(InputError, match="per_spin values must be positive"):
+        load_suite(write(tmp_path, '[[solvers]]\nname = "anneal"\nper_spin = { sweeps = 0 }\n', "p.toml"))
+    # options are checked when the suite is expanded, as solve() would check them, naming the entry
+    typo = load_suite(write(tmp_path, DETERMINISTIC.replace("restarts = 3", "restart = 3"), "o.toml"))
+    with pytest.raises(InputError, match="solver entry 'local'.*unknown option 'restart'.*Did you mean 'restarts'"):
+        expand(typo, ["local", "enumerate"])
+    auto = load_suite(write(tmp_path, DETERMINISTIC + '[[solvers]]\nname = "auto"\noptions = { sweeps = 5 }\n', "a.toml"))
+    with pytest.raises(InputError, match="solver entry 'auto'.*solver_options"):
+        expand(auto, ["local", "enumerate"])
 
 
 def test_rerun_skips_stored_runs_and_time_limit_is_in_the_key(tmp_path):
@@ -187,14 +199,21 @@ def test_suite_loads_a_folder_of_instance_files(tmp_path):
     mats = [np.triu(np.random.default_rng(k).normal(size=(6, 6)), 1) for k in range(2)]
     for k, J in enumerate(mats):
         np.save(folder / f"m{k}.npy", J)
-    text = '[[load]]\nfolder = "mine"\npattern = "*.npy"\nform = "ising"\n[[solvers]]\nname = "enumerate"\n'
+    given = brute_ising_min(mats[1], np.zeros(6))  # a reference value the suite states for one file
+    text = ('[[load]]\nfolder = "mine"\npattern = "*.npy"\nform = "ising"\n'
+            f'best_known = {{ "m1.npy" = {given!r} }}\n[[solvers]]\nname = "enumerate"\n')
     suite = load_suite(write(tmp_path, text))
     with Store(tmp_path / "f.sqlite") as store, ThreadPoolExecutor(1) as ex:
         assert run_suite(suite, store, executor=ex, progress="none").stored == 2
         rows = sorted(store.rows(), key=lambda r: r["path"])
     assert [r["family"] for r in rows] == ["mine", "mine"] and rows[0]["instance"] != rows[1]["instance"]
+    assert [r["name"] for r in rows] == ["m0.npy", "m1.npy"]  # named by the file, not by a hash
+    assert rows[0]["known_optimum"] is None and rows[1]["known_optimum"] == given
     for r, J in zip(rows, mats):
         assert r["objective"] == pytest.approx(brute_ising_min(J, np.zeros(6)))
+    wrong = text.replace('"m1.npy"', '"m7.npy"')
+    with pytest.raises(InputError, match="best_known names \\['m7.npy'\\].*use the file names"):
+        instances(load_suite(write(tmp_path, wrong, "w.toml")))
 
 
 class DyingPool(ThreadPoolExecutor):
@@ -224,3 +243,47 @@ def test_a_dead_worker_stops_the_run_with_a_plain_error_and_keeps_rows(tmp_path)
         with pytest.raises(ResourceError, match="rerun to continue"):
             run_suite(suite, store, executor=ex, workers=1, progress="none")
         assert store.count() <= 1
+
+
+WORK = """
+name = "work"
+seeds = [0, 1]
+[[generate]]
+family = "regular"
+sizes = [60]
+params = { weights = "gaussian" }
+[[generate]]
+family = "sk"
+sizes = [30]
+[[solvers]]
+name = "auto"
+options = { solver_options = { tabu = { moves = 3000 }, anneal = { sweeps = 500 } } }
+[[solvers]]
+name = "anneal"
+label = "anneal 3n"
+per_spin = { sweeps = 3 }
+[[solvers]]
+name = "tabu"
+options = { ball_kicks = 2000, moves = 5000 }
+"""
+
+
+def test_work_limited_runs_store_the_same_states_with_one_or_two_workers(tmp_path):
+    """Without a time limit every run does fixed work: a process pool of 2 and one thread store the same states."""
+    suite = load_suite(write(tmp_path, WORK))
+    runs, _ = expand(suite, spinward.solvers())
+    anneal = next(r for r in runs if r.label == "anneal 3n")
+    assert anneal.options_for(60) == {"sweeps": 180} and anneal.time_limit is None
+    with Store(tmp_path / "pool.sqlite") as store:
+        assert run_suite(suite, store, workers=2, progress="none").stored == 12
+    with Store(tmp_path / "one.sqlite") as store, ThreadPoolExecutor(1) as ex:
+        run_suite(suite, store, executor=ex, workers=1, progress="none")
+    pool, one = comparable(tmp_path / "pool.sqlite"), comparable(tmp_path / "one.sqlite")
+    assert pool == one and len(pool) == 12
+    with Store(tmp_path / "one.sqlite") as store:
+        rows = store.rows()
+    auto = [r for r in rows if r["solver"] == "auto"]
+    # "auto" runs like any solver; the row also records what it chose (enumerate on n = 30 is out of reach)
+    assert len(auto) == 4 and all(r["chosen"] and r["chosen"] != "auto" for r in auto)
+    assert {r["label"] for r in rows} == {"auto", "anneal 3n", "tabu"}
+    assert all(r["per_spin"] == {"sweeps": 3} for r in rows if r["label"] == "anneal 3n")

@@ -38,3 +38,34 @@ def test_auto_conformance(case):
     r = spinward.solve(case.form, seed=1)
     check_result(case, r)
     assert r.exact  # tiny problems are always solved exactly by "auto"
+
+
+@pytest.mark.parametrize("name", SOLVERS)
+def test_builtin_passes_the_public_conformance_check(name):
+    """spinward.testing.check_solver: brute force (its own), bounds, the time limit, a stop request, options."""
+    from spinward.testing import check_solver
+
+    report = check_solver(spinward.default_registry().get(name))
+    assert report.ran + report.declined == 10
+
+
+def test_conformance_check_fails_a_solver_that_declines_everything():
+    from spinward.testing import check_solver
+
+    def never(problem, ctx):
+        raise spinward.SolverUnsuitableError("this solver takes nothing")
+
+    with pytest.raises(AssertionError, match="declined every problem"):
+        check_solver(spinward.SolverSpec(name="never", run=never))
+
+
+def test_conformance_check_catches_a_wrong_answer():
+    import numpy as np
+
+    from spinward.testing import check_solver
+
+    def liar(problem, ctx):  # claims optimality for an arbitrary state
+        return spinward.Solution(sigma=np.ones(problem.n, dtype=np.int8), exact=True)
+
+    with pytest.raises(AssertionError, match="marked exact"):
+        check_solver(spinward.SolverSpec(name="liar", run=liar))

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import json
 import os
+import shutil
 import subprocess
 import sys
 import sysconfig
@@ -52,6 +53,7 @@ def _run(*args: str, **kwargs) -> subprocess.CompletedProcess:
 def clean_env(tmp_path_factory):
     base = tmp_path_factory.mktemp("installed")
     wheels = base / "wheels"
+    shutil.rmtree(ROOT / "build", ignore_errors=True)  # setuptools' staging folder keeps files deleted since
     pip = [sys.executable, "-m", "pip", "--disable-pip-version-check", "-q"]
     _run(*pip, "wheel", "--no-deps", "--no-build-isolation", "-w", str(wheels), str(ROOT), str(PLUGIN_PACKAGE))
     env_dir = base / "venv"
@@ -83,7 +85,7 @@ def test_clean_environment_imports_every_module_from_the_wheel(clean_env):
     got = json.loads(out.strip().splitlines()[-1])
     assert got["file"].startswith(str(env_dir)), got["file"]
     expected = {"spinward.core.frontdoor", "spinward.adapters.files.matrix_market", "spinward.plugins.iamp.parisi",
-                "spinward.plugins.tabu._kernels", "spinward.bench.runner"}
+                "spinward.plugins.tabu._kernels", "spinward.bench.runner", "spinward.testing"}
     assert expected <= set(got["modules"])
 
 

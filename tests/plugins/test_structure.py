@@ -295,7 +295,7 @@ def test_treedp_declines_wide_graphs_with_a_reason():
 def test_treedp_orders_a_ladder_narrowly():
     # a k×L grid has treewidth k (networkx's min-degree finds about 2k on long grids)
     K = from_graph(nx.grid_2d_graph(6, 200), np.random.default_rng(2))
-    found = treedp.decompose(CanonicalProblem(sp.csr_array(K), np.zeros(len(K))), 20, 5.0)
+    found = treedp.decompose(CanonicalProblem(sp.csr_array(K), np.zeros(len(K))), 20, treedp.Budget(5.0 * treedp.WORK_PER_SECOND))
     assert isinstance(found, treedp.Elimination) and 6 <= found.width <= 7
 
 
@@ -304,8 +304,9 @@ def test_treedp_out_of_time_is_not_exact():
     problem = CanonicalProblem(from_graph(nx.grid_2d_graph(4, 30), rng), rng.normal(size=120))
     sol = SPECS["treedp"].run(problem, SolveContext(rng=rng, time_limit=0.0))
     assert not sol.exact and "searching for an order" in sol.info["stopped"]
-    assert SPECS["treedp"].can_run(problem) is True  # leaves the order cached: now the DP itself is cut short
-    sol = SPECS["treedp"].run(problem, SolveContext(rng=rng, time_limit=0.0))
+    assert SPECS["treedp"].can_run(problem) is True  # a cheap check: no order search
+    treedp.decompose(problem, 20, treedp.Budget(5.0 * treedp.WORK_PER_SECOND))  # leaves the order cached
+    sol = SPECS["treedp"].run(problem, SolveContext(rng=rng, time_limit=0.0))  # now the DP itself is cut short
     assert not sol.exact and "before the DP finished" in sol.info["stopped"]
 
 
