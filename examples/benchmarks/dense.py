@@ -14,6 +14,11 @@ docs/references.md, maximised).  Per size and seed, side by side in one process:
 - the ground-state estimate P* − 0.7·n^(−2/3) (P* = 0.7631667, Crisanti & Rizzo 2002, and the
   amplitude 0.7, Boettcher 2005: both from memory).
 
+The cluster rows (--cluster-n, default 4000; needs dask) solve one instance in memory and as a dask
+array in two row blocks on a LocalCluster of two single-thread worker processes, for two settings of
+the polish (one sweep per visit of a block, 1000 sweeps; five sweeps per visit, 6000 sweeps), in
+float64 on both sides.
+
 The out-of-core row writes a float32 .npy of size --out-of-core (default 24000, 2.3 GB) and, in a
 fresh process each, solves `spinward.Ising(np.load(path, mmap_mode="r"))` with method="iamp" and
 the same instance loaded in memory, through the public API (the whole path: adapters, front door,
@@ -21,7 +26,8 @@ solver), sampling RssAnon (/proc/self/status) every 20 ms.  BLAS runs on one thr
 issue's reference figures.  Timings on a shared machine: the load average is printed.
 
 Usage: python examples/benchmarks/dense.py [--sizes 2000 4000 8000 16000] [--seeds 5]
-       [--out-of-core 24000 | --out-of-core 0] [--ooc-dir DIR] [--out bench-out/dense.json]
+       [--out-of-core 24000 | --out-of-core 0] [--ooc-modes memmap memory] [--ooc-dir DIR]
+       [--cluster-n 4000 | --cluster-n 0] [--out bench-out/dense.json]
 """
 
 from __future__ import annotations
@@ -220,19 +226,26 @@ def summarise(records: list[dict[str, Any]]) -> list[dict[str, Any]]:
 # ---------------------------------------------------------------- the out-of-core row
 
 def child_solve(path: str, mode: str, seed: int) -> None:
-    """Run in a fresh process: solve the .npy at ``path`` (memmap or loaded) and print one JSON line."""
+    """Run in a fresh process: solve the .npy at ``path`` and print one JSON line.
+
+    ``mode``: "memmap" (np.load(path, mmap_mode="r")) or "memory" (np.load(path)), with bound=False
+    as the README advises for this size; "+bound" appended keeps the default bounds.
+    """
     import spinward
 
     base = status_kb("RssAnon")["RssAnon"]
     with AnonSampler() as sampler:
         t0 = time.perf_counter()
-        J = np.load(path, mmap_mode="r") if mode == "memmap" else np.load(path)
+        J = np.load(path, mmap_mode="r") if mode.startswith("memmap") else np.load(path)
         with warnings.catch_warnings():
             warnings.simplefilter("ignore")
-            r = spinward.solve(spinward.Ising(J), method="iamp", seed=seed)
+            r = spinward.solve(spinward.Ising(J), method="iamp", seed=seed, bound=mode.endswith("+bound"))
         wall = time.perf_counter() - t0
     n = J.shape[0]
+    stages = r.info.get("stages", {})
     print(json.dumps({"mode": mode, "n": n, "e": -r.objective / n, "wall_s": wall, "solve_wall_s": r.wall_time,
+                      "iamp_s": stages.get("iamp", {}).get("seconds"), "polish_s": stages.get("polish", {}).get("seconds"),
+                      "polish": stages.get("polish", {}).get("precision"),
                       "peak_rss_anon_mb": sampler.peak_kb / 1024, "rss_anon_at_start_mb": base / 1024,
                       "peak_rss_mb": status_kb("VmHWM")["VmHWM"] / 1024, "status": r.status}))
 
@@ -257,14 +270,48 @@ def out_of_core(n: int, seed: int, folder: str | None, modes: tuple[str, ...]) -
         return rows
 
 
+def on_cluster(n: int, seed: int, variants: list[dict[str, Any]]) -> list[dict[str, Any]]:
+    """The dask path against the in-memory path on one instance: a LocalCluster of two single-thread workers.
+
+    Each variant (iamp options) runs in memory and on the cluster (J in two row blocks); the rows
+    give e after each stage and the wall times.
+    """
+    try:
+        import dask.array as da
+        from distributed import Client, LocalCluster
+    except ImportError:
+        print("dask is not installed (pip install spinward[dist]): cluster rows skipped")
+        return []
+    import spinward
+
+    J = sk_couplings(n, 1000 * n + seed).astype(np.float64)
+    rows = []
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=None) as cluster, \
+            Client(cluster), warnings.catch_warnings():
+        warnings.simplefilter("ignore")
+        Jd = da.from_array(J, chunks=(n // 2, n)).persist()
+        for options in variants:
+            for where, form in (("memory", spinward.Ising(J)), ("cluster", spinward.Ising(Jd))):
+                t0 = time.perf_counter()
+                r = spinward.solve(form, method="iamp", seed=seed, bound=False, **options)
+                info = r.info
+                rows.append({"where": where, "options": json.dumps(options), "n": n,
+                             "iamp_state_e": info["energy_per_spin_rounded"], "cleaned_e": info["energy_per_spin_cleaned"],
+                             "final_e": info["energy_per_spin"], "wall_s": time.perf_counter() - t0})
+                print(table([rows[-1]], list(rows[-1])), flush=True)
+    return rows
+
+
 def main(argv: list[str] | None = None) -> dict[str, Any]:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--sizes", type=int, nargs="*", default=[2000, 4000, 8000, 16000])
     ap.add_argument("--seeds", type=int, default=5)
     ap.add_argument("--no-anneal", action="store_true")
     ap.add_argument("--out-of-core", type=int, default=24000, help="n of the memmap row (0: skip)")
-    ap.add_argument("--ooc-modes", nargs="+", default=["memmap", "memory"])
+    ap.add_argument("--ooc-modes", nargs="+", default=["memmap", "memory", "memmap+bound"],
+                    help="memmap / memory (bound=False), memmap+bound (the default bounds too)")
     ap.add_argument("--ooc-dir", default=None, help="folder for the temporary .npy (default: the system's)")
+    ap.add_argument("--cluster-n", type=int, default=4000, help="n of the dask LocalCluster rows (0: skip)")
     ap.add_argument("--out", default="bench-out/dense.json")
     ap.add_argument("--child", nargs=3, metavar=("PATH", "MODE", "SEED"), help=argparse.SUPPRESS)
     args = ap.parse_args(argv)
@@ -287,8 +334,11 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
                              "ground_state_est", "iamp_state_e", "clean_up_gain", "polish_gain",
                              "iamp_extra_peak_mb"]))
     ooc = out_of_core(args.out_of_core, 0, args.ooc_dir, tuple(args.ooc_modes)) if args.out_of_core else []
+    variants = [{"precision": "float64", "polish_sweeps": 1000},
+                {"precision": "float64", "polish_sweeps": 6000, "block_visit_sweeps": 5}]
+    cluster = on_cluster(args.cluster_n, 0, variants) if args.cluster_n else []
     print(f"\nload average at end: {os.getloadavg()}")
-    payload = {"benchmark": "dense", "rows": rows, "records": records, "out_of_core": ooc,
+    payload = {"benchmark": "dense", "rows": rows, "records": records, "out_of_core": ooc, "cluster": cluster,
                "load_average_end": os.getloadavg()}
     write_json(args.out, payload)
     return payload
