@@ -306,10 +306,11 @@ def check_dense_memory(n: int, copies: int | None = None, itemsize: int = 8,
                             f"{out_of_core_estimate(n) / 2**30:.2f} GiB of memory besides the file's page cache")
 
 
-#: anonymous memory of the out-of-core iamp path: a fixed part (Python, numpy, numba, scipy) and
-#: a few dozen float64 vectors of length n; measured RssAnon peak: see examples/benchmarks/dense.py
-OUT_OF_CORE_FIXED_BYTES = 400 << 20
-OUT_OF_CORE_VECTORS = 64
+#: anonymous memory of the out-of-core iamp path (bound=False): a fixed part (Python, numpy, numba,
+#: scipy) and vectors of length n.  Measured peak RssAnon (examples/benchmarks/dense.py, float32
+#: memmap, whole path from np.load to the Result): 142 MB at n = 24 000, 181 MB at n = 50 000.
+OUT_OF_CORE_FIXED_BYTES = 128 << 20
+OUT_OF_CORE_VECTORS = 256
 
 
 def out_of_core_estimate(n: int) -> int:

@@ -319,7 +319,8 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
         child_solve(args.child[0], args.child[1], int(args.child[2]))
         return {}
     print(f"load average at start: {os.getloadavg()}", flush=True)
-    run_instance(300, 0, not args.no_anneal)  # warm-up: numba kernels and the Parisi tables
+    if args.sizes:
+        run_instance(300, 0, not args.no_anneal)  # warm-up: numba kernels and the Parisi tables
     records = []
     for n in args.sizes:
         for seed in range(args.seeds):
@@ -330,9 +331,10 @@ def main(argv: list[str] | None = None) -> dict[str, Any]:
                   f"+polish {rec['polish_gain']:.4f})  anneal {rec.get('anneal_e', float('nan')):.4f}  "
                   f"load {os.getloadavg()[0]:.1f}", flush=True)
     rows = summarise(records)
-    print("\n" + table(rows, ["n", "runs", "plain_e", "plain_s", "iamp_e", "iamp_s", "anneal_e", "iamp_over_anneal",
-                             "ground_state_est", "iamp_state_e", "clean_up_gain", "polish_gain",
-                             "iamp_extra_peak_mb"]))
+    if rows:
+        print("\n" + table(rows, ["n", "runs", "plain_e", "plain_s", "iamp_e", "iamp_s", "anneal_e", "iamp_over_anneal",
+                                 "ground_state_est", "iamp_state_e", "clean_up_gain", "polish_gain",
+                                 "iamp_extra_peak_mb"]))
     ooc = out_of_core(args.out_of_core, 0, args.ooc_dir, tuple(args.ooc_modes)) if args.out_of_core else []
     variants = [{"precision": "float64", "polish_sweeps": 1000},
                 {"precision": "float64", "polish_sweeps": 6000, "block_visit_sweeps": 5}]
