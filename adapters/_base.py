@@ -1,4 +1,4 @@
-"""Shared plumbing of the three forms: canonical construction with exact rescaling, caching."""
+"""Shared plumbing of the three forms: canonical construction with exact rescaling, caching, constraints."""
 
 from __future__ import annotations
 
@@ -9,8 +9,9 @@ import numpy as np
 
 from spinward.core.canonical import CanonicalProblem, Sense, is_sparse
 from spinward.core.errors import InputWarning
-from spinward.core.model import ProblemForm
 
+from .constraints import Constraint
+from .modelling import Modelling
 from .validate import check_total, dyadic_resolution, power_of_two_scale
 
 
@@ -59,11 +60,18 @@ def _row_blocks(P: np.ndarray) -> Any:
         yield P[start:start + rows]
 
 
-class CachedForm(ProblemForm):
-    """A form that builds its canonical problem once and keeps repair notes."""
+class CachedForm(Modelling):
+    """A form that builds its canonical problem once, keeps repair notes, and takes constraints.
+
+    Subclasses implement ``_build`` (the canonical problem without penalties), ``_objective`` (the
+    caller's objective without penalties) and ``_coefficients``; adapters/modelling.py adds the
+    constraint helpers, which extend the form in place and drop the cached canonical problem.
+    """
 
     def __init__(self) -> None:
         self._canonical: CanonicalProblem | None = None
+        self._base: CanonicalProblem | None = None
+        self._constraints: list[Constraint] = []
         self.notes: list[str] = []
 
     def note(self, message: str) -> None:
@@ -73,14 +81,23 @@ class CachedForm(ProblemForm):
 
     def canonical(self) -> CanonicalProblem:
         if self._canonical is None:
-            self._canonical = self._build()
+            self._canonical = self._canonical_with_constraints()
         return self._canonical
+
+    def base_canonical(self) -> CanonicalProblem:
+        """The canonical problem without penalty terms (cached)."""
+        if self._base is None:
+            self._base = self._build()
+        return self._base
+
+    def _changed(self) -> None:
+        self._canonical = None
 
     def _build(self) -> CanonicalProblem:  # pragma: no cover - abstract
         raise NotImplementedError
 
-    def resolution(self) -> float | None:
-        """See :meth:`ProblemForm.resolution`; computed once from :meth:`_coefficients`."""
+    def base_resolution(self) -> float | None:
+        """The resolution of the objective without penalties, computed once from :meth:`_coefficients`."""
         if not hasattr(self, "_resolution"):
             self._resolution = dyadic_resolution(*self._coefficients())
         return self._resolution
@@ -91,4 +108,5 @@ class CachedForm(ProblemForm):
 
     def __repr__(self) -> str:
         c = self.canonical()
-        return f"{type(self).__name__}(n={c.n}, couplings={c.n_couplings()})"
+        extra = f", constraints={len(self._constraints)}" if self._constraints else ""
+        return f"{type(self).__name__}(n={c.n}, couplings={c.n_couplings()}{extra})"

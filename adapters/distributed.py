@@ -209,21 +209,21 @@ class DaskCouplings:
     def power_sums(self) -> tuple[float, float, float, float, int, float]:
         s1, s2, s3, s4, nonzero, big, _ = self._block_sums()
         t = self.scale
-        return s1 / t, s2 / t**2, s3 / t**3, s4 / t**4, nonzero, big / t
+        return s1 / t, s2 / t**2, s3 / t**3, s4 / t**4, nonzero, big / abs(t)
 
     def max_abs(self) -> float:
-        return self._block_sums()[5] / self.scale
+        return self._block_sums()[5] / abs(self.scale)
 
     def abs_sum(self) -> float:
-        return self._block_sums()[6] / self.scale
+        return self._block_sums()[6] / abs(self.scale)
 
     def fraction_bits(self) -> int:
         """Binary fraction digits the entries of K need (adapters.validate.dyadic_resolution)."""
         bits = max(self._all(_block_fraction_bits), default=0)
-        return bits + int(round(math.log2(self.scale)))
+        return bits + int(round(math.log2(abs(self.scale))))
 
     def __truediv__(self, t: float) -> "DaskCouplings":
-        """The same blocks with every entry divided by ``t`` (an exact power of two)."""
+        """The same blocks with every entry divided by ``t`` (an exact power of two, or −1 for a sign)."""
         other = object.__new__(DaskCouplings)
         other.__dict__.update(self.__dict__)
         other.scale = self.scale * float(t)

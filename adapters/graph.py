@@ -147,7 +147,7 @@ class MaxCut(CachedForm):
         return (f"the graph is dense and its edge weights average {weight:.4g} per pair of nodes: this rank-one "
                 f"part favours balanced cuts (two sides of equal size)")
 
-    def evaluate(self, values: np.ndarray) -> float:
+    def _objective(self, values: np.ndarray) -> float:
         """The cut weight, summed over the caller's own edges and correctly rounded (math.fsum)."""
         x = np.asarray(values)
         if x.shape != (len(self._labels),):

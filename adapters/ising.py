@@ -1,6 +1,8 @@
 """Ising: minimise E(s) = −Σ_{i<j} J_ij s_i s_j − Σ_i h_i s_i + offset over s ∈ {−1, +1}ⁿ.
 
-Physics sign: J_ij > 0 is ferromagnetic.  A matrix J must be symmetric (pair
+Physics sign by default: J_ij > 0 is ferromagnetic.  ``energy_sign="hardware"`` reads the same
+J and h in the opposite sign, common on annealing hardware: E(s) = +Σ_{i<j} J_ij s_i s_j +
+Σ_i h_i s_i + offset (J_ij < 0 is ferromagnetic); the couplings and fields are kept as given.  A matrix J must be symmetric (pair
 coefficient J_ij = J_ji) or upper-triangular (pair coefficient J_ij, i < j);
 any other asymmetric matrix is an error unless ``symmetrize=True``, which uses
 (J + Jᵀ)/2 and warns.  A dict J {(i, j): v} adds v to the pair {i, j}.  A
@@ -15,6 +17,8 @@ A dask array J stays on its workers, in row blocks (adapters/distributed.py).
 
 from __future__ import annotations
 
+import copy
+import dataclasses
 from typing import Any, Hashable, Iterable, Mapping
 
 import numpy as np
@@ -29,18 +33,38 @@ from .validate import (as_real_matrix, as_vector, check_dense_memory, check_numb
                        labels_for)
 
 SYMMETRY_RTOL = 1e-12
+#: the two sign conventions of the energy, and the factor each puts on −(Σ J s s + Σ h s)
+ENERGY_SIGNS = {"physics": 1.0, "hardware": -1.0}
 
 
 class Ising(CachedForm):
-    """Minimise −Σ_{i<j} J_ij s_i s_j − Σ h_i s_i + offset; values come back as ±1."""
+    """Minimise −Σ_{i<j} J_ij s_i s_j − Σ h_i s_i + offset (``energy_sign="physics"``, the default) or
+    +Σ_{i<j} J_ij s_i s_j + Σ h_i s_i + offset (``energy_sign="hardware"``); values come back as ±1.
+
+    Examples
+    --------
+    >>> import spinward
+    >>> physics = spinward.Ising({("a", "b"): 1.0}, {"a": 0.5})           # J > 0 aligns a and b
+    >>> spinward.solve(physics).assignment
+    {'a': 1, 'b': 1}
+    >>> hardware = spinward.Ising({("a", "b"): 1.0}, {"a": 0.5}, energy_sign="hardware")  # J > 0 opposes
+    >>> spinward.solve(hardware).assignment
+    {'a': -1, 'b': 1}
+    """
 
     form = "ising"
     sense = "min"
     domain = (1, -1)
 
     def __init__(self, J: Any, h: Any = None, *, offset: float = 0.0, labels: Iterable[Hashable] | None = None,
-                 symmetrize: bool = False) -> None:
+                 symmetrize: bool = False, energy_sign: str = "physics") -> None:
         super().__init__()
+        if energy_sign not in ENERGY_SIGNS:
+            raise InputError(f"energy_sign must be 'physics' (E = −ΣJss − Σhs) or 'hardware' (E = +ΣJss + Σhs), "
+                             f"got {energy_sign!r}")
+        self.energy_sign = energy_sign
+        #: True when a file stated the convention itself (the CLI's --energy-sign must then agree)
+        self.energy_sign_stated = False
         self.offset = check_number(offset, "offset")
         if isinstance(J, Mapping) or (J is None and isinstance(h, Mapping)):
             self._init_dicts(dict(J or {}), h, labels)
@@ -131,8 +155,25 @@ class Ising(CachedForm):
         return _half_sum(M)
 
     def _build(self) -> CanonicalProblem:
-        return build_canonical(self.pairs, self.h.copy(), 0.0, sign=-1.0, shift=self.offset,
+        factor = ENERGY_SIGNS[self.energy_sign]  # the hardware sign negates J and h
+        pairs = self.pairs if factor == 1.0 else _negated(self.pairs)
+        return build_canonical(pairs, self.h * factor, 0.0, sign=-1.0, shift=self.offset,
                                labels=self._labels, form="ising", sense="min")
+
+    def with_energy_sign(self, energy_sign: str) -> "Ising":
+        """The same J, h, offset and constraints read in the other (or the same) sign convention."""
+        if energy_sign not in ENERGY_SIGNS:
+            raise InputError(f"energy_sign must be 'physics' or 'hardware', got {energy_sign!r}")
+        other = copy.copy(self)
+        other.energy_sign = energy_sign
+        other._base, other._canonical, other.notes = None, None, list(self.notes)
+        other._constraints = [dataclasses.replace(c) for c in self._constraints]
+        if other._constraints:
+            other._relayout()  # constraints re-derived on the re-signed base problem
+        return other
+
+    def describe(self) -> dict[str, Any]:
+        return {**super().describe(), "energy_sign": self.energy_sign}
 
     def _coefficients(self) -> tuple[Any, ...]:
         return self.pairs, self.h, self.offset
@@ -140,23 +181,24 @@ class Ising(CachedForm):
     def phrase(self, topic: str, values: dict[str, float]) -> str | None:
         if topic != "mean-part":
             return None
-        mean = -abs(values["mean"] * values["scale"])  # canonical K = J
+        mean = -abs(values["mean"] * values["scale"]) * ENERGY_SIGNS[self.energy_sign]  # canonical K = ±J
         return (f"the couplings have an antiferromagnetic mean ({mean:.4g} per pair): this rank-one part favours "
                 f"states with zero magnetisation")
 
-    def evaluate(self, values: np.ndarray) -> float:
-        """E(s) from the caller's terms (dicts summed directly, matrices as pair sums)."""
+    def _objective(self, values: np.ndarray) -> float:
+        """E(s) from the caller's terms (dicts summed directly, matrices as pair sums), in its energy sign."""
         s = np.asarray(values, dtype=np.float64)
+        factor = ENERGY_SIGNS[self.energy_sign]
         if self._terms is not None:
             index = {label: k for k, label in enumerate(self._labels)}
             total = -sum(float(v) * s[index[i]] * s[index[j]] for (i, j), v in self._terms.items())
             total -= sum(v * s[index[k]] for k, v in self._fields.items())
-            return float(total) + self.offset
+            return factor * float(total) + self.offset
         if is_dask_array(getattr(self._raw, "array", None)):  # K s on the cluster: E = −½sᵀKs − hᵀs
-            return float(-0.5 * s @ self._raw.matvec(s) - self.h @ s) + self.offset
+            return factor * float(-0.5 * s @ self._raw.matvec(s) - self.h @ s) + self.offset
         weight = 1.0 if self._triangular else 0.5  # sᵀJs counts each pair once or twice
         Js = np.asarray(self._raw @ s, dtype=np.float64) if is_sparse(self._raw) else dense_matvec(self._raw, s)
-        return float(-weight * s @ Js - self.h @ s) + self.offset
+        return factor * float(-weight * s @ Js - self.h @ s) + self.offset
 
 
 def _symmetry(M: Any) -> tuple[float, int, float]:
@@ -175,6 +217,14 @@ def _symmetry(M: Any) -> tuple[float, int, float]:
             big = max(big, float(np.abs(upper).max()), float(np.abs(mirror).max()))
         lower += int(np.count_nonzero(np.tril(mirror, -1) if rows == cols else mirror))
     return asym, lower, big
+
+
+def _negated(M: Any) -> Any:
+    """−M: couplings held elsewhere stay there (a scale of −1); a dense M is copied once, after a size check."""
+    if hasattr(M, "abs_sum"):
+        return M / -1.0
+    _check_copy(M, "−J for the hardware sign convention")
+    return -M
 
 
 def _check_copy(M: Any, what: str) -> None:

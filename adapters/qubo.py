@@ -78,7 +78,7 @@ class QUBO(CachedForm):
         return (f"the QUBO's off-diagonal entries have a positive mean ({pair:.4g} per pair, Q_ij + Q_ji): this "
                 f"rank-one part favours assignments with about as many 1s as 0s")
 
-    def evaluate(self, values: np.ndarray) -> float:
+    def _objective(self, values: np.ndarray) -> float:
         """xᵀQx + offset from the caller's own Q (dict terms summed directly)."""
         x = np.asarray(values, dtype=np.float64)
         if self._terms is not None:

@@ -51,6 +51,7 @@ class RowBlocks(Protocol):
 
     shape: tuple[int, int]
     bounds: tuple[tuple[int, int], ...]
+    scale: float  # K = (M − diag M) / scale, M the symmetric matrix whose rows the blocks hold
 
     def matvec(self, x: np.ndarray) -> np.ndarray: ...            # K x in float64
 
@@ -60,7 +61,7 @@ class RowBlocks(Protocol):
 
     def max_abs(self) -> float: ...
 
-    def on_block(self, k: int, fn: Callable[..., Any], *args: Any) -> Any: ...  # fn(rows of K, first row, *args) where block k lives
+    def on_block(self, k: int, fn: Callable[..., Any], *args: Any) -> Any: ...  # fn(rows of M, first row, *args) where block k lives
 
 
 def row_blocks(K: Any) -> RowBlocks | None:

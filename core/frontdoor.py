@@ -134,7 +134,7 @@ def _fixing(form: ProblemForm, problem: CanonicalProblem, fix: Any) -> Fixing | 
         return None
     if not isinstance(fix, Mapping):
         raise InputError(f"fix must be a dict {{label: value}}, got {fix!r:.80}")
-    index = {label: k for k, label in enumerate(problem.labels)}
+    index = {label: k for k, label in enumerate(problem.labels[: form.caller_count()])}
     unknown = [label for label in fix if label not in index]
     if unknown:
         raise InputError(f"fix: unknown label {unknown[0]!r}; the problem's labels are like {problem.labels[:3]!r}")
@@ -160,6 +160,7 @@ class _Solve:
         self.steps: list[Step] = []
         self.advice: list[str] = []
         self.prediction: dict[str, Any] | None = None
+        self.repaired_away = False  # the repair replaced the solvers' state by one of another value
 
     def run(self) -> None:
         work = self.work
@@ -194,9 +195,7 @@ class _Solve:
             if len(self.parts) == 1 and self.fixing is None and spec.predict is not None:
                 found = spec.predict(part.problem, prof)
                 if found:
-                    self.prediction = {**found, "optimum": self.problem.to_objective(found["optimum"]),
-                                       "finite_size_estimate": self.problem.to_objective(
-                                           found.get("finite_size_estimate", found["optimum"]))}
+                    self.prediction = caller_prediction(self.problem, found)
 
     # ---------------------------------------------------------------- the result
     def sigma(self) -> np.ndarray:
@@ -243,7 +242,17 @@ class _Solve:
         violated = not all(c.get("satisfied") for c in form.constraint_report(form.decode(sigma)) or [])
         step.value = self.problem.to_objective(after)
         step.note = f"objective before {self.problem.to_objective(before):.12g}, after {step.value:.12g}"
-        return repaired if (violated or after >= before) else sigma
+        if violated or after >= before:
+            # a proof (and a bound equal to it) was about the state the repair replaced
+            self.repaired_away = after != before
+            return repaired
+        return sigma
+
+
+def caller_prediction(problem: CanonicalProblem, found: dict[str, Any]) -> dict[str, Any]:
+    """A solver's prediction in the caller's units and sign: its ``canonical`` values mapped, the rest kept."""
+    values = {name: problem.to_objective(float(v)) for name, v in found.get("canonical", {}).items()}
+    return {**{k: v for k, v in found.items() if k != "canonical"}, **values}
 
 
 def build_result(state: _Solve, sigma: np.ndarray, notes: list[str], steps: list[Step], pool: Any) -> Result:
@@ -257,8 +266,8 @@ def build_result(state: _Solve, sigma: np.ndarray, notes: list[str], steps: list
     parts = state.parts
     if len(parts) == 1:
         info.update(parts[0].info)
-    exact = bool(parts) and all(p.exact for p in parts) and not root.interrupted
-    if problem.n == 0 or state.work.n == 0:
+    exact = bool(parts) and all(p.exact for p in parts) and not root.interrupted and not state.repaired_away
+    if problem.n == 0 or (state.work.n == 0 and not state.repaired_away):
         exact = True
     bound_value, kind = _bound(state, canonical_value, exact, info)
     gap = relative_gap(bound_value, objective)
@@ -274,6 +283,7 @@ def build_result(state: _Solve, sigma: np.ndarray, notes: list[str], steps: list
         info["explanation"] = expl[0] if len(expl) == 1 else {"parts": expl}
     if state.prediction:
         info["prediction"] = state.prediction
+    info.update({k: v for k, v in form.describe().items() if k not in ("form", "sense", "n")})
     if state.fixing is not None:
         info["fixed"] = [[problem.labels[int(i)], int(v)] for i, v in zip(state.fixing.fixed,
                                                                              form.decode(state.fixing.values))]
@@ -293,11 +303,12 @@ def build_result(state: _Solve, sigma: np.ndarray, notes: list[str], steps: list
     if report is not None and not all(c.get("satisfied") for c in report):
         warnings.append("the best state found violates a constraint: "
                         + "; ".join(str(c.get("name")) for c in report if not c.get("satisfied")))
-    plain = values.tolist()
+    shown = form.caller_count()  # the caller's variables (a form's own slack variables are left out)
+    plain = values[:shown].tolist()
     # Every field is built here from checked parts, so the model is constructed without re-validation:
     # validating a million-entry assignment would cost seconds of the caller's time limit.
     return Result.model_construct(
-        form=form.form, assignment=dict(zip(problem.labels, plain)), array=tuple(plain), objective=objective,
+        form=form.form, assignment=dict(zip(problem.labels[:shown], plain)), array=tuple(plain), objective=objective,
         sense=form.sense, bound=bound_value, bound_kind=cast(Any, kind), gap=gap, exact=exact, solver=solver,
         status=cast(Any, _status(root, steps, exact)), wall_time=root.elapsed(), seed=root.seed,
         warnings=tuple(warnings), feasible=None if report is None else all(c.get("satisfied") for c in report),
@@ -333,9 +344,11 @@ def _answers(form: ProblemForm, problem: CanonicalProblem, pool: Any, sigma: np.
         return []
     pool.consider(sigma, problem.value(sigma))
     out = []
+    shown = form.caller_count()
     for state, _ in pool.best():
         values = form.decode(state)
-        out.append(Answer(assignment=dict(zip(problem.labels, values.tolist())), objective=float(form.evaluate(values))))
+        out.append(Answer(assignment=dict(zip(problem.labels[:shown], values[:shown].tolist())),
+                          objective=float(form.evaluate(values))))
     return out
 
 

@@ -124,6 +124,14 @@ class ProblemForm(ABC):
         """
         return None
 
+    def caller_count(self) -> int:
+        """How many leading canonical variables are the caller's own (the default: all of them).
+
+        A form may add variables of its own after them (the slack of a count constraint); the
+        result then shows the caller's variables only, and ``fix`` accepts only those.
+        """
+        return self.canonical().n
+
     def describe(self) -> dict[str, Any]:
         """A short summary for messages and reports."""
         c = self.canonical()

@@ -24,7 +24,11 @@ from .dispatch import Ranking
 from .registry import Bound, SolverSpec
 
 #: the most parts a problem is split into; more components are solved together in the last part
-MAX_PARTS = 64
+MAX_PARTS = 16
+#: components this small are not parts of their own: they are solved together (one profile, one plan)
+SMALL_PART = 26
+#: a component holding this share of the spins is not split off: the whole problem is one part
+WHOLE_SHARE = 0.9
 #: share of the time limit the profile may take
 PROFILE_SHARE = 0.05
 #: share of a part's time the improver gets (when the primary cannot itself start from a state)

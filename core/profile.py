@@ -32,6 +32,7 @@ SPECTRAL_SUBSET = 1500
 SAMPLE = 20_000            # entries sampled for the frustration pre-check
 READ_RATE = 2e8            # coupling entries a budgeted profile assumes it can read per second
 MIN_SAMPLE_ENTRIES = 1 << 18
+STRUCTURE_SECONDS = 4e-7   # per coupling, the components-and-balance pass (generous: a loaded machine)
 
 
 @dataclass(frozen=True)
@@ -41,7 +42,7 @@ class Profile:
     n: int
     couplings: int
     density: float
-    components: int
+    components: int | None       # None: not counted (a time limit too short for a pass over a huge K)
     kind: str
     mean: float                  # over all pairs, zeros included
     std: float                   # over all pairs, zeros included
@@ -52,7 +53,7 @@ class Profile:
     field_ratio: float           # rms(b) / rms row norm of K (0 without fields)
     has_fields: bool
     ferromagnetic: bool          # every K_ij ≥ 0 (canonical sign: favours alignment)
-    frustration_free: bool       # a gauge makes every coupling ferromagnetic
+    frustration_free: bool | None  # a gauge makes every coupling ferromagnetic (None: not checked)
     degeneracy: int | None       # a lower bound on treewidth (the degeneracy, or ⌈m/n⌉ on large graphs)
     treewidth: int | None        # heuristic upper bound (None when not estimated)
     top_eigenvalues: tuple[float, ...] = ()   # of A (dense inputs only)
@@ -99,8 +100,14 @@ def _compute(problem: CanonicalProblem, budget: float | None) -> Profile:
         degeneracy, treewidth = None, None
     else:
         rows, cols, vals = _upper_entries(problem)
-        components, frustration_free, labels = _signed_structure(n, rows, cols, vals)
-        problem.meta["_component_labels"] = labels
+        known = problem.meta.get("_structure")  # a part of a profiled problem: its parent found these
+        if known is not None:
+            components, frustration_free = known
+        elif budget is not None and STRUCTURE_SECONDS * rows.size > budget:
+            components, frustration_free = None, None  # not within the profile's share of a short limit
+        else:
+            components, frustration_free, labels, frustrated = _signed_structure(n, rows, cols, vals)
+            problem.meta["_component_labels"], problem.meta["_frustrated_spins"] = labels, frustrated
         ferromagnetic = bool(np.all(vals >= 0))
         degeneracy, treewidth = _treewidth(n, rows, cols, stats.density)
     spectral = _mean_field_spectrum(problem, stats) if stats.density >= DENSE_FILL and n >= 50 else {}
@@ -187,8 +194,9 @@ def _dense_with_zeros(K: np.ndarray) -> tuple[int, bool] | None:
     return None
 
 
-def _signed_structure(n: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarray) -> tuple[int, bool, np.ndarray]:
-    """(number of connected components, balanced?, each spin's component label).
+def _signed_structure(n: int, rows: np.ndarray, cols: np.ndarray,
+                      vals: np.ndarray) -> tuple[int, bool, np.ndarray, np.ndarray]:
+    """(number of connected components, balanced?, each spin's component label, spins in a frustrated one).
 
     One call of scipy's connected components on the doubled graph: spin i becomes i⁺ and i⁻,
     a positive coupling joins i⁺–j⁺ and i⁻–j⁻, a negative one i⁺–j⁻ and i⁻–j⁺.  The signed
@@ -196,7 +204,7 @@ def _signed_structure(n: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarr
     coupling graph is the pair of labels {label(i⁺), label(i⁻)} its spins share.
     """
     if n == 0:
-        return 0, True, np.zeros(0, dtype=np.int64)
+        return 0, True, np.zeros(0, dtype=np.int64), np.zeros(0, dtype=bool)
     import scipy.sparse as sp
     from scipy.sparse.csgraph import connected_components
 
@@ -210,7 +218,8 @@ def _signed_structure(n: int, rows: np.ndarray, cols: np.ndarray, vals: np.ndarr
     plus, minus = label[:n].astype(np.int64), label[n:].astype(np.int64)
     pair = np.minimum(plus, minus) * (2 * n) + np.maximum(plus, minus)
     _, components = np.unique(pair, return_inverse=True)
-    return int(components.max()) + 1, bool(not np.any(plus == minus)), components.astype(np.int64)
+    frustrated = plus == minus
+    return int(components.max()) + 1, bool(not np.any(frustrated)), components.astype(np.int64), frustrated
 
 
 def _treewidth(n: int, rows: np.ndarray, cols: np.ndarray, density: float) -> tuple[int | None, int | None]:

@@ -98,7 +98,9 @@ class SolverSpec:
     - ``fit(profile[, budget])``: how well it suits the problem ("auto" takes the highest score;
       ``budget`` is the part's seconds, or None without a time limit);
     - ``advise(problem, profile)``: :class:`Advice` when the problem breaks its assumptions;
-    - ``predict(problem, profile)``: a predicted optimum, ``{"optimum": canonical value, ...}``;
+    - ``predict(problem, profile)``: a prediction, ``{"canonical": {"optimum": value, ...}, ...}``: the
+      values under "canonical" are in canonical units (the result shows them in the caller's), the other
+      entries (a source, a note) are kept as they are;
     - ``cost(problem)``: predicted seconds of a run without a time limit (deterministic; used to
       size the bounds' share).
     """

@@ -106,6 +106,15 @@ class Answer(FrozenModel):
         return [[_label_to_json(k), int(v)] for k, v in value.items()]
 
 
+def constraints_line(report: Any) -> str:
+    """'all 3 satisfied', or which are violated with their value and target (at most three named)."""
+    bad = [c for c in report if not c.get("satisfied")]
+    if not bad:
+        return f"all {len(report)} satisfied"
+    named = "; ".join(f"{c.get('name')} (value {c.get('value')}, target {c.get('target')})" for c in bad[:3])
+    return f"{len(bad)} of {len(report)} VIOLATED: {named}" + ("; …" if len(bad) > 3 else "")
+
+
 class Result(FrozenModel):
     """The answer to one ``solve()`` call, in the caller's terms.
 
@@ -193,6 +202,8 @@ class Result(FrozenModel):
                  f"solver:    {self.solver}   status: {self.status}   exact: {self.exact}"]
         if self.bound is not None:
             lines.append(f"bound:     {shown(self.bound)}  ({self.bound_kind})   gap: {shown_gap(self.gap or 0.0)}")
+        if self.feasible is not None:
+            lines.append(f"constraints: {constraints_line(self.constraints)}")
         lines.append(f"time:      {self.wall_time:.3f} s   seed: {self.seed}")
         lines += [f"warning:   {w}" for w in self.warnings]
         return "\n".join(lines)

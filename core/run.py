@@ -21,8 +21,8 @@ from .context import SolveContext
 from .decompose import connected_components, subproblem
 from .dispatch import rank
 from .errors import InternalError, SolverUnsuitableError, SpinwardError
-from .plan import (LAST_RESORT_SECONDS, MAX_PARTS, MIN_STEP_SECONDS, Part, Step, free_bound_allowance,
-                   improver_share, part_share)
+from .plan import (LAST_RESORT_SECONDS, MAX_PARTS, MIN_STEP_SECONDS, SMALL_PART, WHOLE_SHARE, Part, Step,
+                   free_bound_allowance, improver_share, part_share)
 from .profile import Profile, profile_of
 from .registry import Bound, BoundSpec, Registry, Solution, SolverSpec
 
@@ -61,8 +61,13 @@ class Runner:
             return [Part(0, np.arange(problem.n), problem, [method], None)]
         pieces = self._pieces(profile)
         out = []
+        frustrated = problem.meta.get("_frustrated_spins")
+        labels = problem.meta.get("_component_labels")
         for k, idx in enumerate(pieces):
             sub = problem if len(pieces) == 1 else subproblem(problem, idx)
+            if sub is not problem and frustrated is not None and labels is not None:
+                # the whole problem's profile already knows each part's components and balance
+                sub.meta["_structure"] = (int(np.unique(labels[idx]).size), not bool(np.any(frustrated[idx])))
             prof = profile if len(pieces) == 1 else profile_of(sub, budget=self._profile_budget())
             budget = None if self.limit is None else max(self.solve_time_left(), 0.0) * len(idx) / problem.n
             ranking = rank(sub, prof, self.registry, budget, only=only)
@@ -71,13 +76,17 @@ class Runner:
         return out
 
     def _pieces(self, profile: Profile) -> list[np.ndarray]:
-        if profile.components <= 1:
+        """Components, largest first up to ``MAX_PARTS``; small ones (≤ ``SMALL_PART`` spins) and the
+        rest go together into one part (still a union of components, so still exact to split)."""
+        if profile.components is None or profile.components <= 1:
             return [np.arange(self.problem.n)]
         comps = sorted(connected_components(self.problem), key=len, reverse=True)
-        if len(comps) > MAX_PARTS:
-            rest = np.sort(np.concatenate(comps[MAX_PARTS - 1:]))
-            comps = comps[: MAX_PARTS - 1] + [rest]
-        return sorted(comps, key=lambda idx: int(idx[0]))
+        if len(comps[0]) >= WHOLE_SHARE * self.problem.n:  # one giant component: splitting would only copy it
+            return [np.arange(self.problem.n)]
+        large = [c for c in comps[: MAX_PARTS - 1] if len(c) > SMALL_PART]
+        rest = comps[len(large):]
+        pieces = large + ([np.sort(np.concatenate(rest))] if rest else [])
+        return sorted(pieces, key=lambda idx: int(idx[0]))
 
     def _profile_budget(self) -> float | None:
         from .plan import PROFILE_SHARE

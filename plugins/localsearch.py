@@ -23,7 +23,7 @@ DEFAULT_RESTARTS = 16
 class LocalOptions(SolverOptions):
     """Options of multi-start local search."""
 
-    restarts: int | None = Field(None, ge=1, description="random starts (default 16; with a time limit, until "
+    restarts: int | None = Field(None, ge=1, le=10**9, description="random starts (default 16; with a time limit, until "
                                                           "the clock stops)")
     initial: Any = Field(None, description="canonical ±1 state for the first climb")
 
@@ -40,7 +40,7 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     initial = ctx.option("initial", None)
     while done < max(int(restarts), 1):
         start = random_spins(problem.n, ctx.rng) if initial is None or done else np.asarray(initial, dtype=np.int8)
-        sigma, value = local_search(problem, start)
+        sigma, value = local_search(problem, start, should_stop=ctx.should_stop)
         ctx.offer(sigma, value)
         done += 1
         if ctx.should_stop():
@@ -55,6 +55,12 @@ def fit(problem: CanonicalProblem) -> float:
     return 1.0
 
 
+def cost(problem: CanonicalProblem) -> float:
+    """Predicted seconds of the default 16 climbs (about ten passes over K each)."""
+    from spinward.core.plan import stored_entries
+
+    return DEFAULT_RESTARTS * 10 * 3e-9 * (stored_entries(problem) + problem.n)
+
 SPEC = SolverSpec(
     name="local",
     run=run,
@@ -62,6 +68,7 @@ SPEC = SolverSpec(
     summary="multi-start greedy single-flip local search",
     options=LocalOptions,
     fit=fit,
+    cost=cost,
 )
 
 

@@ -26,6 +26,7 @@ BUILTIN_PLUGINS: tuple[str, ...] = (
     "spinward.plugins.annealing",
     "spinward.plugins.tabu",
     "spinward.plugins.iamp",
+    "spinward.plugins.milp",
 )
 
 _lock = threading.Lock()

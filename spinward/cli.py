@@ -42,9 +42,22 @@ def _option_pair(text: str) -> tuple[str, Any]:
 
 
 def _read(args: argparse.Namespace) -> Any:
+    """The problem file as a form; ``--energy-sign`` reads an Ising problem's J and h in that convention."""
     import spinward
+    from spinward.core.errors import InputError
 
-    return spinward.read_problem(args.file, form=args.form, format=args.format, weight=args.weight)
+    form = spinward.read_problem(args.file, form=args.form, format=args.format, weight=args.weight)
+    sign = getattr(args, "energy_sign", None)
+    if sign is None:
+        return form
+    if form.form != "ising":
+        raise InputError(f"--energy-sign applies to Ising problems; {args.file} holds a {form.form} problem")
+    if form.energy_sign == sign:
+        return form
+    if form.energy_sign_stated:
+        raise InputError(f"{args.file} states energy_sign {form.energy_sign!r} itself; drop --energy-sign {sign} "
+                         f"or change the document")
+    return form.with_energy_sign(sign)
 
 
 def _add_file_options(p: argparse.ArgumentParser) -> None:
@@ -187,6 +200,9 @@ def cmd_parisi(args: argparse.Namespace) -> int:
     return 0
 
 
+ENERGY_SIGN_HELP = ("how to read an Ising problem's J and h: physics (E = −ΣJss − Σhs, the default) or hardware "
+                    "(E = +ΣJss + Σhs)")
+
 COMMANDS: dict[str, tuple[Callable[[argparse.Namespace], int], str]] = {
     "solve": (cmd_solve, "solve a problem file and print a summary"),
     "demo": (cmd_demo, "solve a built-in example (a two-band radio frequency plan)"),
@@ -211,6 +227,7 @@ def build_parser() -> argparse.ArgumentParser:
             p.add_argument("--seed", type=int, default=None, help="random seed (recorded in the result)")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None,
                            help="how to read a bare matrix (.mtx/.npy/.npz); default qubo")
+            p.add_argument("--energy-sign", choices=("physics", "hardware"), default=None, help=ENERGY_SIGN_HELP)
             _add_file_options(p)
             p.add_argument("--output", "-o", default=None, help="write the result as JSON here")
             p.add_argument("--csv", default=None, help="write the assignment as CSV (label,value) here")
@@ -221,11 +238,13 @@ def build_parser() -> argparse.ArgumentParser:
         if name == "bound":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
+            p.add_argument("--energy-sign", choices=("physics", "hardware"), default=None, help=ENERGY_SIGN_HELP)
             _add_file_options(p)
             p.add_argument("--time-limit", type=float, default=None, help="seconds per bound (default: no limit)")
         if name == "inspect":
             p.add_argument("file", help="problem file")
             p.add_argument("--form", choices=("qubo", "ising", "maxcut"), default=None)
+            p.add_argument("--energy-sign", choices=("physics", "hardware"), default=None, help=ENERGY_SIGN_HELP)
             _add_file_options(p)
             p.add_argument("--time-limit", type=float, default=None, help="show the plan for this time limit")
         if name == "solvers":

@@ -8,6 +8,7 @@ from typing import Any
 import numpy as np
 
 from .core.context import SolveContext
+from .core.frontdoor import caller_prediction
 from .core.plan import IMPROVER_SHARE, PROFILE_SHARE, Part, reserve_seconds
 from .core.profile import Profile, profile_of
 from .core.registry import Registry
@@ -54,7 +55,7 @@ def format_inspection(form: Any, profile: Profile, parts: list[Part], registry: 
 
 def _profile_lines(form: Any, p: Profile) -> list[str]:
     return [f"problem:     {form.form}, n = {p.n}, {p.couplings} couplings (density {100 * p.density:.3g}%), "
-            f"{p.components} component(s), {p.kind} storage",
+            f"{'an uncounted number of' if p.components is None else p.components} component(s), {p.kind} storage",
             f"couplings:   mean {p.mean:.4g}, std {p.std:.4g} over all pairs; non-zero mean {p.nonzero_mean:.4g}, "
             f"excess kurtosis {p.excess_kurtosis:.3g}, max |K| {p.max_abs:.4g}"
             + ("" if p.stats_exact else " (from a sample of rows)")
@@ -100,10 +101,11 @@ def _advice_lines(form: Any, parts: list[Part]) -> list[str]:
     if spec.predict is not None:
         found = spec.predict(part.problem, prof)
         if found:
-            p = part.problem
-            lines.append(f"prediction:  optimum ≈ {p.to_objective(found['optimum']):.6g} (finite-size estimate "
-                         f"{p.to_objective(found.get('finite_size_estimate', found['optimum'])):.6g}; "
-                         f"{found.get('source', '')})")
+            shown = caller_prediction(part.problem, found)
+            extra = ", ".join(f"{k.replace('_', ' ')} {v:.6g}" for k, v in shown.items()
+                              if k in found.get("canonical", {}) and k != "optimum")
+            lines.append(f"prediction:  optimum ≈ {shown['optimum']:.6g}" + (f" ({extra})" if extra else "")
+                         + (f"; {found['source']}" if found.get("source") else ""))
     if spec.advise is not None:
         for advice in spec.advise(part.problem, prof):
             lines.append("note:        " + advice.worded(form.phrase(advice.topic, dict(advice.values))
@@ -111,5 +113,5 @@ def _advice_lines(form: Any, parts: list[Part]) -> list[str]:
     return lines
 
 
-def _yn(flag: bool) -> str:
-    return "yes" if flag else "no"
+def _yn(flag: bool | None) -> str:
+    return "not checked" if flag is None else ("yes" if flag else "no")

@@ -39,8 +39,11 @@ def brute_maxcut(n: int, edges: list[tuple[int, int, float]]) -> float:
     return float(total.max())
 
 
-def milp_qubo_min(Q: np.ndarray, offset: float = 0.0) -> float:
-    """min xᵀQx + offset by the standard linearisation y_ij = x_i x_j, solved to zero gap by HiGHS."""
+def milp_qubo_min(Q: np.ndarray, offset: float = 0.0, linear: list[tuple[np.ndarray, float, float]] = ()) -> float:
+    """min xᵀQx + offset by the standard linearisation y_ij = x_i x_j, solved to zero gap by HiGHS.
+
+    ``linear`` adds constraints low ≤ a·x ≤ high, each given as (a, low, high) over the n variables x.
+    """
     n = Q.shape[0]
     S = Q + Q.T
     pairs = [(i, j) for i in range(n) for j in range(i + 1, n) if S[i, j] != 0]
@@ -53,14 +56,28 @@ def milp_qubo_min(Q: np.ndarray, offset: float = 0.0) -> float:
         A[3 * k + 1, [y, j]] = [1, -1]; lo.append(-np.inf); hi.append(0)      # y ≤ x_j
         A[3 * k + 2, [y, i, j]] = [1, -1, -1]; lo.append(-1); hi.append(np.inf)  # y ≥ x_i + x_j − 1
     cons = [LinearConstraint(A.tocsr(), lo, hi)] if pairs else []
+    cons += _side_constraints(linear, len(c))
     res = milp(c, constraints=cons, integrality=np.ones(len(c)), bounds=Bounds(0, 1),
                options={"mip_rel_gap": 0})
     assert res.status == 0, res.message
     return float(res.fun) + offset
 
 
-def milp_maxcut(n: int, edges: list[tuple[int, int, float]]) -> float:
-    """max Σ w z_uv with z_uv = x_u XOR x_v enforced by four inequalities (any weight sign)."""
+def _side_constraints(linear: list[tuple[np.ndarray, float, float]], width: int) -> list[LinearConstraint]:
+    """low ≤ a·x ≤ high on the first len(a) variables of a program with ``width`` variables."""
+    out = []
+    for a, low, high in linear:
+        row = np.zeros(width)
+        row[: len(a)] = a
+        out.append(LinearConstraint(row.reshape(1, -1), low, high))
+    return out
+
+
+def milp_maxcut(n: int, edges: list[tuple[int, int, float]], linear: list[tuple[np.ndarray, float, float]] = ()) -> float:
+    """max Σ w z_uv with z_uv = x_u XOR x_v enforced by four inequalities (any weight sign).
+
+    ``linear`` adds constraints low ≤ a·x ≤ high on the sides x (x_u = 1: side 1), as (a, low, high).
+    """
     m = len(edges)
     c = np.concatenate([np.zeros(n), [-w for _, _, w in edges]])
     A = lil_array((4 * m, n + m))
@@ -71,10 +88,20 @@ def milp_maxcut(n: int, edges: list[tuple[int, int, float]]) -> float:
         A[4 * k + 1, [z, u, v]] = [1, 1, 1]; lo.append(-np.inf); hi.append(2)    # z ≤ 2 − x_u − x_v
         A[4 * k + 2, [z, u, v]] = [1, -1, 1]; lo.append(0); hi.append(np.inf)    # z ≥ x_u − x_v
         A[4 * k + 3, [z, u, v]] = [1, 1, -1]; lo.append(0); hi.append(np.inf)    # z ≥ x_v − x_u
-    res = milp(c, constraints=[LinearConstraint(A.tocsr(), lo, hi)], integrality=np.ones(n + m),
-               bounds=Bounds(0, 1), options={"mip_rel_gap": 0})
+    cons = [LinearConstraint(A.tocsr(), lo, hi)] + _side_constraints(linear, n + m)
+    res = milp(c, constraints=cons, integrality=np.ones(n + m), bounds=Bounds(0, 1), options={"mip_rel_gap": 0})
     assert res.status == 0, res.message
     return -float(res.fun)
+
+
+def ising_as_qubo(J_upper: np.ndarray, h: np.ndarray, offset: float = 0.0) -> tuple[np.ndarray, float]:
+    """(Q, c) with xᵀQx + c = −Σ_{i<j} J_ij s_i s_j − Σ h_i s_i + offset for s = 2x − 1, by plain algebra."""
+    J = np.triu(J_upper, 1)
+    # −J s_i s_j = −J (4 x_i x_j − 2 x_i − 2 x_j + 1);  −h s = −2 h x + h
+    Q = -4.0 * J
+    lin = -2.0 * h + 2.0 * J.sum(axis=1) + 2.0 * J.sum(axis=0)
+    Q = Q + np.diag(lin)
+    return Q, float(offset - J.sum() + h.sum())
 
 
 # Canonical-level references (maximise ½σᵀKσ + bᵀσ + k₀), shared by the heuristic plugins' tests.

@@ -107,3 +107,16 @@ def test_no_import_time_work_in_plugins():
         top = [n for n in tree.body if isinstance(n, (ast.Import, ast.ImportFrom))]
         names = [a.name for n in top for a in n.names] + [getattr(n, "module", "") or "" for n in top]
         assert not any("numba" in x or "kernel" in x for x in names), f"{path} imports numba or kernels at import time"
+
+
+def test_core_names_no_solver_and_holds_no_solver_constant():
+    """Mean-field knowledge and solver names live in the plugins; core only knows the hooks."""
+    import spinward
+
+    names = spinward.default_registry().names()
+    bad = []
+    for path, _ in _modules("core"):
+        text = path.read_text(encoding="utf-8")
+        bad += [f"{path.name}: solver name {n!r}" for n in names if f'"{n}"' in text or f"'{n}'" in text]
+        bad += [f"{path.name}: {word}" for word in ("0.763", "Parisi", "PARISI", "finite_size") if word in text]
+    assert not bad, bad

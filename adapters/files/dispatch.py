@@ -188,6 +188,12 @@ def _read_csv(p: Path, request: ReadRequest) -> Any:
     return _expect(read_csv_edges(p, weight=request.weight), request, p)
 
 
+def _read_lp(p: Path, request: ReadRequest) -> Any:
+    from .lp import read_lp
+
+    return _expect(read_lp(p), request, p)
+
+
 for _fmt in (
     FileFormat("mtx", (".mtx",), _read_mtx, "Matrix Market matrix (coordinate or array), 1-based labels"),
     FileFormat("json", (".json",), _read_json, "spinward's JSON problem document"),
@@ -197,6 +203,8 @@ for _fmt in (
     FileFormat("csv", (".csv",), _read_csv, "CSV edge list 'u,v[,weight]' with an optional header, read as a MaxCut"),
     FileFormat("npy", (".npy",), _read_npy, "NumPy array (never unpickled)"),
     FileFormat("npz", (".npz",), _read_npz, "NumPy archive: Q [offset], J [h, offset], or a scipy.sparse matrix"),
+    FileFormat("lp", (".lp",), _read_lp, "the binary-quadratic subset of the plain-text LP format (equalities "
+               "become constraint penalties)"),
 ):
     register_format(_fmt)
 

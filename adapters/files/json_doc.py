@@ -1,11 +1,12 @@
 """Our JSON problem documents, one schema per form, validated by pydantic.
 
 ``{"form": "qubo", "terms": [[i, j, q], ...] | "matrix": [[...]], "labels": [...], "offset": c}``
-``{"form": "ising", "fields": [[label, h], ...], "couplings": [[i, j, J], ...], "offset": c}``
+``{"form": "ising", "fields": [[label, h], ...], "couplings": [[i, j, J], ...], "offset": c, "energy_sign": "physics"}``
 ``{"form": "maxcut", "nodes": [...], "edges": [[u, v, w], ...]}``
 
 Labels are JSON scalars or arrays (read back as tuples).  Ising couplings follow
-the Ising convention: each listed pair adds J to the pair's coefficient.
+the Ising convention: each listed pair adds J to the pair's coefficient; ``energy_sign``
+(optional) is "physics" (E = −ΣJss − Σhs, the default) or "hardware" (E = +ΣJss + Σhs).
 """
 
 from __future__ import annotations
@@ -26,7 +27,7 @@ from .safety import control_character, read_text
 SCHEMA = "spinward.problem/1"
 #: fields each form's document may hold (besides "schema" and "form")
 FIELDS = {"qubo": ("matrix", "terms", "labels", "offset"),
-          "ising": ("fields", "couplings", "offset"),
+          "ising": ("fields", "couplings", "offset", "energy_sign"),
           "maxcut": ("nodes", "edges")}
 #: largest integer magnitude a float64 holds exactly
 EXACT_INT = 2**53
@@ -113,7 +114,13 @@ def _ising(doc: dict[str, Any]) -> Ising:
     J: dict[Any, float] = {}
     for k, (i, j, v) in enumerate(_triples(doc.get("couplings", []), "couplings", "a coupling J")):
         _add(J, (i, j), v, f"couplings[{k}]")
-    return Ising(J, fields, offset=offset)
+    sign = doc.get("energy_sign", "physics")
+    if sign not in ("physics", "hardware"):
+        raise DocumentError("energy_sign", f"must be 'physics' (E = −ΣJss − Σhs) or 'hardware' (E = +ΣJss + Σhs), "
+                                           f"got {_kind(sign)}")
+    form = Ising(J, fields, offset=offset, energy_sign=sign)
+    form.energy_sign_stated = "energy_sign" in doc
+    return form
 
 
 def _maxcut(doc: dict[str, Any]) -> MaxCut:
@@ -230,7 +237,9 @@ def to_document(form: Any) -> dict[str, Any]:
         m = sp.coo_array(sp.triu(sp.csr_array(form.pairs), k=1))
         couplings = [[labels[i], labels[j], float(v)] for i, j, v in zip(m.row, m.col, m.data)]
         fields = [[labels[i], float(v)] for i, v in enumerate(form.h)]
-        return {"schema": SCHEMA, "form": "ising", "fields": fields, "couplings": couplings, "offset": form.offset}
+        sign = {"energy_sign": form.energy_sign} if form.energy_sign != "physics" else {}
+        return {"schema": SCHEMA, "form": "ising", "fields": fields, "couplings": couplings, "offset": form.offset,
+                **sign}
     raise FileFormatError(f"cannot write a {type(form).__name__} as a problem document")
 
 

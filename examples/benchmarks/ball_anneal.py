@@ -6,8 +6,8 @@ Run: python examples/benchmarks/ball_anneal.py [--n 10000] [--budget 10] [--seed
 For each family, tabu runs with ``start="anneal"`` (annealing, strict ball kicks, the walk) and with
 ``start="ball-anneal"`` (annealed ball kicks from random spins, the walk), same time limit and seeds.
 Families (invented instances from fixed seeds), all weighted MaxCut with Gaussian weights unless
-noted: random 3-, 4-, 5- and 6-regular graphs, a periodic 2D grid with ±1 weights (degree 4), and
-G(n, 10/n).  Reported: the cut of each start and which one wins; tabu's "auto" takes "ball-anneal"
+noted: random 3-, 4-, 5- and 6-regular graphs, a periodic 2D grid with ±1 weights (degree 4), the
+periodic 3D cube with ±1 weights (degree 6), and G(n, 10/n).  Reported: the cut of each start and which one wins; tabu's "auto" takes "ball-anneal"
 at mean degree ≤ ``tabu.BALL_ANNEAL_MAX_DEGREE``.  With --jobs 2 two runs share the two cores.
 """
 
@@ -29,7 +29,7 @@ from spinward.core import CanonicalProblem, SolveContext  # noqa: E402
 from spinward.plugins import tabu  # noqa: E402
 from spinward.plugins.common.flips import mean_degree  # noqa: E402
 
-FAMILIES = ("3-regular", "4-regular", "5-regular", "6-regular", "torus ±1", "G(n,10/n)")
+FAMILIES = ("3-regular", "4-regular", "5-regular", "6-regular", "torus ±1", "cube ±1", "G(n,10/n)")
 STARTS = ("anneal", "ball-anneal")
 
 
@@ -41,18 +41,21 @@ def instance(family: str, n: int, seed: int = 1) -> CanonicalProblem:
     elif family == "torus ±1":
         side = int(round(n ** 0.5))
         g = nx.convert_node_labels_to_integers(nx.grid_2d_graph(side, side, periodic=True))
+    elif family == "cube ±1":  # the 3D periodic lattice: degree 6, like 6-regular graphs but with short loops
+        side = int(round(n ** (1 / 3)))
+        g = nx.convert_node_labels_to_integers(nx.grid_graph(dim=[side] * 3, periodic=True))
     else:
         g = nx.fast_gnp_random_graph(n, 10 / n, seed=seed)
     edges = np.array(g.edges(), dtype=np.int64).reshape(-1, 2)
-    w = rng.choice([-1.0, 1.0], len(edges)) if family == "torus ±1" else rng.standard_normal(len(edges))
+    w = rng.choice([-1.0, 1.0], len(edges)) if family.endswith("±1") else rng.standard_normal(len(edges))
     return maxcut_canonical(g.number_of_nodes(), edges, w)
 
 
 def one_run(job: tuple[str, int, str, int, float]) -> dict[str, Any]:
     family, n, start, seed, budget = job
     problem = instance(family, n)
-    ctx = SolveContext(rng=np.random.default_rng(seed), time_limit=budget, options={**tabu.OPTIONS, "start": start})
-    sol = tabu.run(problem, ctx)
+    ctx = SolveContext(rng=np.random.default_rng(seed), time_limit=budget)
+    sol = tabu.run(problem, ctx.child(options=tabu.SPEC.read_options({"start": start})))
     return {"family": family, "n": problem.n, "degree": round(mean_degree(problem), 2), "start": start, "seed": seed,
             "cut": problem.value(sol.sigma)}
 

@@ -50,13 +50,15 @@ FIT_SHARE = 0.9               # share of the time left that the next schedule ma
 PROBE_SWEEPS = 20             # length of the schedule that times a sweep
 UNBOUNDED = 10**7             # sweeps: the longest schedule (its β array takes 80 MB)
 GROWTH = 4                    # each schedule is this many times longer than the last, if the time allows
+SWEEP_SECONDS = 3e-9          # per coupling entry visited in a sparse sweep (generous; for predicted costs only)
+DENSE_SWEEP_SECONDS = 1e-10   # per entry of a dense K, per sweep (most proposals are refused at low T)
 
 class AnnealOptions(SolverOptions):
     """Options of simulated annealing (see the module docstring)."""
 
-    sweeps: int | None = Field(None, ge=1, description="sweeps per schedule (default 1000; with a time limit, "
+    sweeps: int | None = Field(None, ge=1, le=UNBOUNDED, description="sweeps per schedule (default 1000; with a time limit, "
                                                         "schedules grow ×4 while they pay)")
-    restarts: int | None = Field(None, ge=1, description="schedules from fresh random spins (default 1; with a "
+    restarts: int | None = Field(None, ge=1, le=10**9, description="schedules from fresh random spins (default 1; with a "
                                                           "time limit, until the clock stops)")
     schedule: Literal["linear", "geometric"] = Field("linear", description="how β moves between its ends")
     beta_span: tuple[float, float] | None = Field(None, description="(low, high) inverse temperatures relative to "
@@ -248,6 +250,17 @@ def fit(problem: CanonicalProblem) -> float:
     return 2.0
 
 
+def cost(problem: CanonicalProblem) -> float:
+    """Predicted seconds of the default run without a time limit: 1000 sweeps.
+
+    A sparse sweep visits every coupling; a dense one pays O(n) per accepted flip only
+    (measured: 1000 sweeps at n = 4000 in 0.8 s), hence the smaller rate per entry.
+    """
+    from spinward.core.plan import stored_entries
+
+    rate = SWEEP_SECONDS if problem.kind == "sparse" else DENSE_SWEEP_SECONDS
+    return DEFAULT_SWEEPS * rate * (stored_entries(problem) + problem.n)
+
 SPEC = SolverSpec(
     name="anneal",
     run=run,
@@ -255,6 +268,7 @@ SPEC = SolverSpec(
     summary="simulated annealing, single-flip Metropolis or heat-bath, β schedule set from the coupling scale",
     options=AnnealOptions,
     fit=fit,
+    cost=cost,
 )
 
 

@@ -106,8 +106,8 @@ def integer_fields(K, sigma, b):  # pragma: no cover - compiled
 
 
 @nb.njit(cache=True)
-def walk_rows(rows, first, h, sigma, betas, state):  # pragma: no cover - compiled
-    """:func:`walk_dense` over spins first..first+len(rows) only, from their rows (of a symmetric M).
+def walk_rows(rows, first, factor, h, sigma, betas, state):  # pragma: no cover - compiled
+    """:func:`walk_dense` over spins first..first+len(rows) only, from their rows (of a symmetric M, K = factor·M).
 
     Used where a block of rows lives (a worker): h and sigma are the full float64 vectors and are
     updated in place; M's diagonal entry is not a coupling, so a flip leaves hᵢ's own term alone.
@@ -124,7 +124,7 @@ def walk_rows(rows, first, h, sigma, betas, state):  # pragma: no cover - compil
                 if x < -_EXP_CUTOFF or uniform(state) >= math.exp(x):
                     continue
             sigma[i] = -sigma[i]
-            step = 2.0 * sigma[i]
+            step = 2.0 * sigma[i] * factor
             row = rows[a]
             for j in range(n):
                 h[j] += step * row[j]

@@ -7,6 +7,7 @@ the coupling scale, so float noise cannot cause cycling).
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import Any
 
 import numpy as np
@@ -42,10 +43,13 @@ def mean_degree(problem: CanonicalProblem) -> float:
     return float(csr_parts(problem)[0][-1]) / max(problem.n, 1)
 
 
-def local_search(problem: CanonicalProblem, sigma: np.ndarray, h: np.ndarray | None = None) -> tuple[np.ndarray, float]:
+def local_search(problem: CanonicalProblem, sigma: np.ndarray, h: np.ndarray | None = None,
+                 should_stop: Callable[[], bool] | None = None) -> tuple[np.ndarray, float]:
     """Climb from ``sigma`` to a 1-flip local optimum; returns (σ, C(σ)).
 
     ``h`` may pass the local fields Kσ + b if already known (it is updated in place).
+    With ``should_stop``, the climb runs one sweep per kernel call and asks between sweeps (a
+    sweep of a dense K costs O(n²)); a climb stopped early has not reached a local optimum.
     A LinearOperator K is returned unchanged (no cheap single-flip update exists).
     """
     s = np.array(sigma, dtype=np.float64)
@@ -56,12 +60,19 @@ def local_search(problem: CanonicalProblem, sigma: np.ndarray, h: np.ndarray | N
     fields = problem.local_fields(s) if h is None else np.asarray(h, dtype=np.float64)
     tol = flip_tolerance(problem)
     if problem.kind == "sparse":
-        kern.sweep_csr(*csr_parts(problem), fields, s, tol, MAX_SWEEPS)
+        args: tuple[Any, ...] = (*csr_parts(problem), fields, s, tol)
+        kernel = kern.sweep_csr
     else:
         K: Any = problem.K
         if K.dtype not in (np.float32, np.float64) or not K.flags.c_contiguous:
             K = np.ascontiguousarray(K, dtype=np.float64)
-        kern.sweep_dense(K, fields, s, tol, MAX_SWEEPS)
+        args, kernel = (K, fields, s, tol), kern.sweep_dense
+    if should_stop is None:
+        kernel(*args, MAX_SWEEPS)
+    else:
+        for _ in range(MAX_SWEEPS):
+            if kernel(*args, 1) == 0 or should_stop():
+                break
     out = s.astype(np.int8)
     return out, problem.value(out)
 

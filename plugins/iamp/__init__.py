@@ -15,8 +15,8 @@ Three stages, each reported on its own in the result's info (``stages``):
    states (``polish_sweeps`` sweeps each, β from ``polish_betas[0]`` to ``[1]`` in units of A);
    the best state is kept, so the polish never loses what the first two stages found.
 
-Result info (canonical units): predicted_optimum = s·n^{3/2}·P* plus the mean's part for a
-balanced state plus k₀, finite_size_estimate (e_n ≈ P* − 0.7·n^{−2/3}), fraction_of_prediction
+Result info: the predicted optimum is the result's ``info["prediction"]`` (from ``predict``, in the
+caller's units); here fraction_of_prediction
 (e/P*, the fluctuation part only, so a large mean part cannot inflate it),
 energy_per_spin_rounded / _cleaned / energy_per_spin (final, after the polish), where
 e = fluctuation part / (s·n^{3/2}), ``stages`` (seconds and gain of each stage, per spin and

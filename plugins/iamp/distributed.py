@@ -34,23 +34,23 @@ VISIT_SWEEPS = 1
 MAX_PASSES = 10_000
 
 
-def greedy_visit(rows: np.ndarray, first: int, h: np.ndarray, sigma: np.ndarray, tol: float
+def greedy_visit(rows: np.ndarray, first: int, factor: float, h: np.ndarray, sigma: np.ndarray, tol: float
                  ) -> tuple[np.ndarray, np.ndarray, int]:
-    """One greedy pass over the block's spins; (h, the block's spins, flips)."""
+    """One greedy pass over the block's spins (K = factor·M on the block's rows); (h, the block's spins, flips)."""
     from spinward.plugins.common import _flip_kernels as kern
 
     h, sigma = h.copy(), sigma.copy()  # arguments may be shared between tasks on a worker
-    flips = kern.sweep_rows(np.asarray(rows), first, h, sigma, tol)
+    flips = kern.sweep_rows(np.asarray(rows), first, factor, h, sigma, tol)
     return h, sigma[first:first + rows.shape[0]], int(flips)
 
 
-def walk_visit(rows: np.ndarray, first: int, h: np.ndarray, sigma: np.ndarray, betas: np.ndarray,
+def walk_visit(rows: np.ndarray, first: int, factor: float, h: np.ndarray, sigma: np.ndarray, betas: np.ndarray,
                state: np.ndarray) -> tuple[np.ndarray, np.ndarray, int, np.ndarray]:
     """Metropolis sweeps (one per β) over the block's spins; (h, the block's spins, moves, generator state)."""
     from spinward.plugins.common import _metropolis_kernels as kern
 
     h, sigma, state = h.copy(), sigma.copy(), state.copy()
-    moves = kern.walk_rows(np.asarray(rows), first, h, sigma, betas, state)
+    moves = kern.walk_rows(np.asarray(rows), first, factor, h, sigma, betas, state)
     return h, sigma[first:first + rows.shape[0]], int(moves), state
 
 
@@ -69,7 +69,7 @@ def block_local_search(problem: CanonicalProblem, sigma: np.ndarray) -> tuple[np
     for _ in range(MAX_PASSES):
         flips = 0
         for k, (first, end) in enumerate(K.bounds):
-            h, s[first:end], done = K.on_block(k, greedy_visit, h, s, tol)
+            h, s[first:end], done = K.on_block(k, greedy_visit, 1.0 / K.scale, h, s, tol)
             flips += done
         if flips == 0:
             break
@@ -84,7 +84,7 @@ def block_walk(K: Any, h: np.ndarray, sigma: np.ndarray, betas: np.ndarray, stat
     for start in range(0, betas.size, visit):
         group = np.ascontiguousarray(betas[start:start + visit])
         for k, (first, end) in enumerate(K.bounds):
-            h_new, sigma[first:end], taken, state_new = K.on_block(k, walk_visit, h, sigma, group, state)
+            h_new, sigma[first:end], taken, state_new = K.on_block(k, walk_visit, 1.0 / K.scale, h, sigma, group, state)
             h[:] = h_new
             state[:] = state_new
             moves += taken

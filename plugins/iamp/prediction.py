@@ -33,8 +33,6 @@ ASSUMPTION = "dense, mean-zero, i.i.d.-like couplings"
 
 #: finite-size correction e_n ≈ P* − A·n^{−2/3}; A from memory (Boettcher 2005), an estimate
 FINITE_SIZE_A = 0.7
-FINITE_SIZE_SOURCE = ("e_n ≈ P* − A·n^(−2/3) with A ≈ 0.7 (from memory; Boettcher, Eur. Phys. J. B 46, 501 "
-                      "(2005), arXiv:cond-mat/0407130): an estimate, not a bound")
 #: below this size the n → ∞ prediction is not reported
 MIN_PREDICTION_N = 100
 
@@ -53,15 +51,13 @@ def fluctuation_e(problem: CanonicalProblem, sigma: np.ndarray, value: float, st
 
 
 def prediction(problem: CanonicalProblem, stats: CouplingStats, pstar: float, best: dict) -> dict[str, Any]:
-    """The Parisi-based prediction in canonical units, and how close ``best`` came (its fraction of P*)."""
-    n = problem.n
-    fluct = stats.std * n**1.5
-    offset = mean_part(stats.mean, n % 2, n) + problem.k0  # the mean's share for a balanced state, and k₀
-    e_n = pstar - FINITE_SIZE_A * n ** (-2.0 / 3.0)
+    """How close ``best`` came to the Parisi value (its fraction of P*, the fluctuation part only).
+
+    Unitless on purpose: the predicted optimum itself is the result's one prediction, in the caller's
+    units and sign (``info["prediction"]``, from :func:`predict`).
+    """
     e_best = fluctuation_e(problem, best["sigma"], best["value"], stats)
-    return {"predicted_optimum": fluct * pstar + offset, "finite_size_estimate": fluct * e_n + offset,
-            "finite_size_source": FINITE_SIZE_SOURCE, "fraction_of_prediction": e_best / pstar,
-            "parisi_value": pstar}
+    return {"fraction_of_prediction": e_best / pstar, "parisi_value": pstar}
 
 
 def suitability(profile: Any) -> tuple[float, list[str]]:
@@ -123,8 +119,8 @@ def predict(problem: CanonicalProblem, profile: Any) -> dict[str, Any] | None:
     m_part = abs(profile.mean) * profile.n / 2 if profile.mean <= 0 else 0.0
     n, s = profile.n, profile.std
     e_n = PARISI_GROUND_STATE - FINITE_SIZE_A * n ** (-2 / 3)
-    return {"optimum": problem.k0 + m_part + s * n ** 1.5 * PARISI_GROUND_STATE,
-            "finite_size_estimate": problem.k0 + m_part + s * n ** 1.5 * e_n,
+    return {"canonical": {"optimum": problem.k0 + m_part + s * n ** 1.5 * PARISI_GROUND_STATE,
+                          "finite_size_estimate": problem.k0 + m_part + s * n ** 1.5 * e_n},
             "per_spin_parisi": PARISI_GROUND_STATE, "source": PARISI_SOURCE, "balanced": profile.mean < 0}
 
 
@@ -141,8 +137,9 @@ def advise(problem: CanonicalProblem, profile: Any) -> list[Advice]:
                 "full couplings, which keeps the state balanced.")
         found = predict(problem, profile)
         if found:
-            text += (f" Parisi-based prediction: ≈ {problem.to_objective(found['optimum']):.6g} (finite-size "
-                     f"estimate {problem.to_objective(found['finite_size_estimate']):.6g}; an estimate, not a bound).")
+            value = found["canonical"]
+            text += (f" Parisi-based prediction: ≈ {problem.to_objective(value['optimum']):.6g} (finite-size "
+                     f"estimate {problem.to_objective(value['finite_size_estimate']):.6g}; an estimate, not a bound).")
         out.append(Advice(text, topic="mean-part", values={"mean": profile.mean, "scale": problem.scale},
                           lead=f"the couplings have a negative mean ({profile.mean:.4g} per pair in canonical "
                                f"units): this rank-one part favours balanced states (as many spins up as down)"))

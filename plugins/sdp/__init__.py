@@ -21,11 +21,11 @@ from .. import spectral
 class SdpOptions(SolverOptions):
     """Options of the SDP relaxation with hyperplane rounding."""
 
-    rank: int | None = Field(None, ge=1, description="columns of the Burer–Monteiro factor (default ⌈√(2n)⌉ + 1)")
+    rank: int | None = Field(None, ge=1, le=10_000, description="columns of the Burer–Monteiro factor (default ⌈√(2n)⌉ + 1)")
     tol: float = Field(3e-7, ge=0.0, description="relative change per sweep at which the mixing method stops")
-    max_sweeps: int = Field(2000, ge=1, description="most sweeps of the mixing method")
-    hyperplanes: int = Field(128, ge=1, description="random hyperplanes tried for rounding")
-    polish: int = Field(16, ge=0, description="best rounded states climbed to a 1-flip local optimum")
+    max_sweeps: int = Field(2000, ge=1, le=10**7, description="most sweeps of the mixing method")
+    hyperplanes: int = Field(128, ge=1, le=10**6, description="random hyperplanes tried for rounding")
+    polish: int = Field(16, ge=0, le=10**6, description="best rounded states climbed to a 1-flip local optimum")
     precision: Literal["auto", "float32", "float64"] = Field("auto", description="working copy of the couplings")
 
 
@@ -63,6 +63,13 @@ def fit(problem: Any) -> float:
     return 1.5 if n <= 3000 else 0.5
 
 
+def cost(problem: CanonicalProblem) -> float:
+    """Predicted seconds without a time limit: a few hundred mixing sweeps, then the rounding."""
+    from .certificates import _sweep_cost
+    from .mixing import lift
+
+    return 300 * _sweep_cost(lift(problem))
+
 SPEC = SolverSpec(
     name="sdp",
     run=run,
@@ -70,6 +77,7 @@ SPEC = SolverSpec(
     summary="SDP relaxation by Burer–Monteiro (mixing method), Goemans–Williamson rounding + single flips",
     options=SdpOptions,
     fit=fit,
+    cost=cost,
 )
 
 

@@ -37,6 +37,7 @@ PASS_SECONDS = 2e-9   # seconds per stored coupling entry for one product with K
 ITERATIONS = 100      # Lanczos restarts of the plain (estimated) bound, at most
 MIN_PASSES = 40       # an iterative estimate with fewer products with K than this is not worth starting
 STEP_SECONDS = 5e-4   # the iterative eigen-solvers' own work per product with K (measured: LOBPCG, sparse)
+STEP_SECONDS_PER_ROW = 5e-7  # and its part that grows with N (orthogonalising against the basis; ARPACK, N = 5·10⁴)
 SWEEP_FLOPS = 2e9     # multiply-adds per second of a mixing-method sweep (blocked BLAS or numba; generous)
 SINGLE_THREAD_UP_TO = 3000  # below this N, LAPACK runs on one BLAS thread (faster, and steady under load)
 
@@ -58,13 +59,19 @@ def _pass_cost(problem: CanonicalProblem) -> float:
     return PASS_SECONDS * (entries + problem.n)
 
 
+def _estimate_cost(lifted: CanonicalProblem, passes: int = 0) -> float:
+    """Seconds of an iterative estimate with ``passes`` products with K (default the least worth starting)."""
+    per = _pass_cost(lifted) + STEP_SECONDS + STEP_SECONDS_PER_ROW * lifted.n
+    return (passes or MIN_PASSES) * per
+
+
 def _passes(seconds: float, lifted: CanonicalProblem) -> int:
     """How many products with K fit into ``seconds`` (at most ``ITERATIONS`` Lanczos restarts' worth).
 
     Each product also pays the iterative solvers' own work per step (orthogonalisation, small
     eigenproblems; ``STEP_SECONDS``), which dominates on sparse K.
     """
-    per = _pass_cost(lifted) + STEP_SECONDS
+    per = _pass_cost(lifted) + STEP_SECONDS + STEP_SECONDS_PER_ROW * lifted.n
     return int(min(ITERATIONS * eigen.LANCZOS_BASIS, max(seconds, 0.0) / per))
 
 
@@ -83,14 +90,13 @@ def spectral_cost(problem: CanonicalProblem) -> float:
     lifted_n = problem.n + (1 if problem.has_fields else 0)
     if problem.kind == "dense" and lifted_n <= eigen.EIGH_LIMIT:
         return _eigh_cost(lifted_n) + _cholesky_cost(lifted_n)
-    estimate = MIN_PASSES * _pass_cost(problem)
-    return estimate + (_cholesky_cost(lifted_n) if lifted_n <= eigen.SMALL_SPARSE else 0.0)
+    return _estimate_cost(lift(problem)) + (_cholesky_cost(lifted_n) if lifted_n <= eigen.SMALL_SPARSE else 0.0)
 
 
 def dual_cost(problem: CanonicalProblem) -> float:
     """Predicted seconds of the SDP dual bound: the mixing method (unless a factor is cached) and its proof."""
     N = problem.n + (1 if problem.has_fields else 0)
-    proof = _cholesky_cost(N) if N <= DENSE_LIMIT else MIN_PASSES * _pass_cost(problem)
+    proof = _cholesky_cost(N) if N <= DENSE_LIMIT else _estimate_cost(lift(problem))
     solve = 0.0 if cached_factor(problem) is not None else MIN_SWEEPS * _sweep_cost(problem)
     return solve + proof
 
@@ -260,7 +266,7 @@ def sdp_dual_bound(problem: CanonicalProblem, ctx: SolveContext) -> Bound | None
 def _dual(problem: CanonicalProblem, N: int, ctx: SolveContext) -> Bound | None:
     factor = cached_factor(problem)
     dense_limit = int(ctx.option("dense_limit", DENSE_LIMIT))
-    proof = _cholesky_cost(N) if N <= dense_limit else MIN_PASSES * _pass_cost(lift(problem))
+    proof = _cholesky_cost(N) if N <= dense_limit else _estimate_cost(lift(problem))
     sweep = _sweep_cost(lift(problem))
     if not _fits(ctx, proof + (0.0 if factor is not None else MIN_SWEEPS * sweep)):
         return None  # neither a factor and its proof, nor a few sweeps and a proof, fit the allowance

@@ -72,9 +72,9 @@ class TreeOptions(SolverOptions):
     """Options of tree dynamic programming."""
 
     max_width: int = Field(20, ge=1, le=30, description="widest bag allowed (the DP keeps 2^width states per bag)")
-    order_time: float = Field(2.0, gt=0.0, description="seconds to search for an elimination order "
+    order_time: float = Field(2.0, gt=0.0, le=3600.0, description="seconds to search for an elimination order "
                                                         "(without a time limit; with one, a share of it)")
-    max_memory_mb: int = Field(1024, ge=1, description="memory for the arg-max tables kept to read the optimum back")
+    max_memory_mb: int = Field(1024, ge=1, le=10**7, description="memory for the arg-max tables kept to read the optimum back")
 
 
 # No ``assumptions``: each condition is enforced by the solver's check, which declines with its reason.

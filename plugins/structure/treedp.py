@@ -47,6 +47,7 @@ WORK_PER_SECOND = 3e6         # fill-in work units (Σ (|N|² + 1) per eliminati
 ORDER_SHARE = 0.2             # with a time limit: at most this share of the step goes to the order search
 MIN_DEGREE_MAX_N = 5000       # above this, only the (fast) bandwidth orders are tried
 BANDWIDTH_FACTOR = 4          # above that size, a bandwidth beyond this many times the width limit declines
+BANDWIDTH_MAX_N = 200_000     # above this even the bandwidth check (reverse Cuthill–McKee) costs too much
 
 
 @dataclass
@@ -248,6 +249,8 @@ def check(problem: CanonicalProblem) -> bool | str:
         return f"{prof.couplings} couplings on {prof.n} spins: more than a graph of treewidth ≤ {DEFAULT_WIDTH} has"
     if prof.treewidth is not None and prof.treewidth > DEFAULT_WIDTH and prof.n <= 64:
         return f"its elimination orders are wider than {DEFAULT_WIDTH} (min-degree found {prof.treewidth})"
+    if prof.n > BANDWIDTH_MAX_N:
+        return f"n = {prof.n}: above {BANDWIDTH_MAX_N} spins no elimination order is searched for"
     if prof.n > MIN_DEGREE_MAX_N:  # only the bandwidth orders will be tried: decline when they are far too wide
         width = _rcm_bandwidth(problem)
         if width > BANDWIDTH_FACTOR * DEFAULT_WIDTH:

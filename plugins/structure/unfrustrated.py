@@ -19,8 +19,11 @@ import math
 import numpy as np
 
 from spinward.core import CanonicalProblem, Solution, SolveContext, SolverUnsuitableError
+from spinward.core.profile import profile_of
 
 from . import mincut
+
+PROFILE_FIRST = 5000  # above this size the profile's balance test answers first (no count of bad couplings)
 
 
 def tree_parity(n: int, i: np.ndarray, j: np.ndarray, negative: np.ndarray) -> np.ndarray:
@@ -88,6 +91,12 @@ def check(problem: CanonicalProblem) -> bool | str:
                 "couplings, so no gauge makes them all ferromagnetic")
     if not (np.all(np.isfinite(problem.b)) and mincut.negative_couplings(problem)[2]):
         return "the couplings or fields hold non-finite values"
+    balanced = profile_of(problem).frustration_free if problem.n > PROFILE_FIRST else True
+    if balanced is None:
+        return "the balance of the couplings was not checked (the time limit is short for their number)"
+    if not balanced:  # the profile's balance test is cheaper than the gauge search
+        return ("couplings are frustrated: some cycle has an odd number of negative couplings, so no gauge "
+                "makes them all ferromagnetic")
     _, bad, total = gauge_signs(problem)
     if bad:
         return (f"couplings are frustrated: {bad} of {total} couplings close a cycle with an odd "

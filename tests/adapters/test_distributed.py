@@ -99,3 +99,13 @@ def test_local_cluster_n4000_same_iamp_state_and_close_objective():
     assert cluster_run.info["energy_per_spin_rounded"] == pytest.approx(memory.info["energy_per_spin_rounded"],
                                                                         abs=1e-4)
     assert abs(cluster_run.objective - memory.objective) / n < 0.002
+
+
+@pytest.mark.parametrize("scale, sign", [(1.0, "hardware"), (2.0**70, "physics")])
+def test_rescaled_or_negated_blocks_solve_like_memory(scale, sign):
+    # K = (M − diag M)/scale where the blocks hold M: the clean-up and polish visits must apply it
+    J = sk(400, 6) * scale
+    memory = solve(spinward.Ising(J, energy_sign=sign), polish_sweeps=300)
+    blocks = solve(spinward.Ising(da.from_array(J, chunks=(100, 400)), energy_sign=sign), polish_sweeps=300)
+    assert blocks.objective == pytest.approx(memory.objective, rel=1e-9)
+    assert blocks.info["energy_per_spin"] == pytest.approx(memory.info["energy_per_spin"], abs=1e-9)

@@ -109,3 +109,54 @@ def test_sigint_during_a_slow_read_exits_130_with_one_line(tmp_path):
         pytest.skip("the read finished before the signal")
     assert proc.returncode == 130, err
     assert err.count("\n") == 1 and "interrupted" in err and "Traceback" not in err
+
+
+def test_an_option_typo_fails_clearly_from_the_cli(tmp_path, capsys):
+    spinward.write_problem(spinward.MaxCut(nx.path_graph(3)), tmp_path / "g.json")
+    assert main(["solve", str(tmp_path / "g.json"), "--method", "tabu", "--option", "tenur=5"]) == 2
+    err = capsys.readouterr().err
+    assert "unknown option 'tenur'" in err and "Did you mean 'tenure'" in err and err.count("\n") == 1
+
+
+def test_an_internal_error_asks_for_a_report_and_exits_1(tmp_path, capsys):
+    spinward.write_problem(spinward.MaxCut(nx.path_graph(3)), tmp_path / "g.json")
+
+    def broken(problem, ctx):
+        raise ZeroDivisionError("a bug in a plugin")
+
+    spinward.register_solver(spinward.SolverSpec(name="broken-for-the-test", run=broken))
+    try:
+        assert main(["solve", str(tmp_path / "g.json"), "--method", "broken-for-the-test"]) == 1
+        err = capsys.readouterr().err
+        assert "internal error" in err and "please report it" in err and "--debug" in err
+        assert "Traceback" not in err and err.count("\n") == 1
+        with pytest.raises(spinward.InternalError):
+            main(["--debug", "solve", str(tmp_path / "g.json"), "--method", "broken-for-the-test"])
+    finally:
+        spinward.reset_registry()
+
+
+def test_each_warning_is_printed_once(tmp_path, capsys):
+    g = nx.Graph()
+    g.add_edge(0, 0)          # a self-loop: dropped with a warning
+    g.add_edge(0, 1, weight=2.0)
+    spinward.write_problem(spinward.MaxCut(nx.path_graph(2)), tmp_path / "unused.json")
+    path = tmp_path / "loop.graphml"
+    nx.write_graphml(g, path)
+    assert main(["solve", str(path)]) == 0
+    captured = capsys.readouterr()
+    text = captured.out + captured.err
+    assert text.count("self-loop") == 1, text
+
+
+def test_inspect_shows_the_profile_and_the_plan_on_a_dense_file(tmp_path, capsys):
+    """A dense n = 70 file once showed "1 couplings"; numpy counts them here."""
+    import numpy as np
+
+    J = np.triu(np.random.default_rng(5).normal(size=(70, 70)), 1)
+    np.save(tmp_path / "j.npy", J)
+    assert main(["inspect", str(tmp_path / "j.npy"), "--form", "ising", "--time-limit", "2"]) == 0
+    out = capsys.readouterr().out
+    assert f"{np.count_nonzero(J)} couplings" in out
+    assert "plan:        (time limit 2 s)" in out and "bounds:" in out
+    assert "enumerate    would not: n = 70 exceeds its limit of 26 variables" in out
