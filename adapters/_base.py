@@ -36,15 +36,28 @@ def build_canonical(P: Any, linear: np.ndarray, constant: float, *, sign: float,
 
 
 def _max_abs(P: Any) -> float:
+    if hasattr(P, "abs_sum"):  # couplings held elsewhere in row blocks (adapters/distributed.py)
+        return float(P.max_abs())
     if is_sparse(P):
         return float(abs(P).max()) if P.nnz else 0.0
-    return float(np.abs(P).max()) if P.size else 0.0
+    return max((float(np.abs(block).max()) for block in _row_blocks(P) if block.size), default=0.0)
 
 
 def _mass(P: Any) -> float:
+    if hasattr(P, "abs_sum"):
+        return float(P.abs_sum())
     if is_sparse(P):
         return float(abs(P).sum())
-    return float(np.abs(P).sum())
+    return sum(float(np.abs(block).sum(dtype=np.float64)) for block in _row_blocks(P))
+
+
+def _row_blocks(P: np.ndarray) -> Any:
+    """Row blocks of a dense P of about TILE² entries each (no n² temporary; a memmap is read in place)."""
+    from . import validate
+
+    rows = max(1, validate.TILE ** 2 // max(P.shape[1], 1)) if P.ndim == 2 else max(P.shape[0], 1)
+    for start in range(0, P.shape[0], rows):
+        yield P[start:start + rows]
 
 
 class CachedForm(Modelling):

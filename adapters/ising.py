@@ -7,6 +7,12 @@ coefficient J_ij = J_ji) or upper-triangular (pair coefficient J_ij, i < j);
 any other asymmetric matrix is an error unless ``symmetrize=True``, which uses
 (J + Jᵀ)/2 and warns.  A dict J {(i, j): v} adds v to the pair {i, j}.  A
 non-zero diagonal (s_i² = 1, a constant) is dropped with a warning.
+
+A dense J that is exactly symmetric with a zero diagonal is used in place, never copied: a
+float32 ``np.load(path, mmap_mode="r")`` of any size goes to the solver as it is, and every
+check here reads it in tiles.  An upper-triangular J (J + Jᵀ), a non-zero diagonal or a
+nearly symmetric J ((J + Jᵀ)/2) needs one copy of the input's dtype; its size is checked first.
+A dask array J stays on its workers, in row blocks (adapters/distributed.py).
 """
 
 from __future__ import annotations
@@ -17,12 +23,14 @@ from typing import Any, Hashable, Iterable, Mapping
 
 import numpy as np
 
-from spinward.core.canonical import CanonicalProblem, is_sparse
+from spinward.core.canonical import CanonicalProblem, dense_matvec, is_sparse
 from spinward.core.errors import InputError
 
 from ._base import CachedForm, build_canonical
+from .distributed import is_dask_array
 from .terms import dict_to_matrix
-from .validate import as_real_matrix, as_vector, check_number, first_appearance, labels_for
+from .validate import (as_real_matrix, as_vector, check_dense_memory, check_number, dense_tiles, first_appearance,
+                       labels_for)
 
 SYMMETRY_RTOL = 1e-12
 #: the two sign conventions of the energy, and the factor each puts on −(Σ J s s + Σ h s)
@@ -60,6 +68,8 @@ class Ising(CachedForm):
         self.offset = check_number(offset, "offset")
         if isinstance(J, Mapping) or (J is None and isinstance(h, Mapping)):
             self._init_dicts(dict(J or {}), h, labels)
+        elif is_dask_array(J):
+            self._init_distributed(J, h, labels, symmetrize)
         else:
             self._init_matrix(J, h, labels, symmetrize)
 
@@ -92,6 +102,23 @@ class Ising(CachedForm):
         self.h = np.zeros(n) if h is None else as_vector(h, n, "h")
         self._labels = labels_for(n, labels, "Ising")
 
+    def _init_distributed(self, J: Any, h: Any, labels: Iterable[Hashable] | None, symmetrize: bool) -> None:
+        """J as a dask array in row blocks: checked and multiplied where it lives (adapters/distributed.py)."""
+        from .distributed import DaskCouplings
+
+        self._terms = None
+        notes: list[str] = []
+        couplings = DaskCouplings(J, notes=notes)
+        mode, repairs = couplings.check(symmetrize, SYMMETRY_RTOL, np.random.default_rng(0))
+        for message in notes + repairs:
+            self.note(message)
+        n = couplings.shape[0]
+        self._raw = couplings
+        self._triangular = mode == "triangular"
+        self.pairs = couplings
+        self.h = np.zeros(n) if h is None else as_vector(h, n, "h")
+        self._labels = labels_for(n, labels, "Ising")
+
     def _drop_diagonal(self, M: Any) -> Any:
         diag = M.diagonal()
         if np.any(diag != 0):
@@ -102,27 +129,35 @@ class Ising(CachedForm):
                 M = sp.csr_array(M - sp.diags_array(diag))
                 M.eliminate_zeros()
             else:
-                M = np.array(M, dtype=np.float64)
+                check_dense_memory(M.shape[0], copies=1, itemsize=M.dtype.itemsize,
+                                   what="a copy of J without its diagonal")
+                M = np.array(M)
                 np.fill_diagonal(M, 0.0)
         return M
 
     def _pair_matrix(self, M: Any, symmetrize: bool) -> Any:
         """Symmetric pair-coefficient matrix P (P_ij = coefficient of s_i s_j, i ≠ j)."""
-        self._triangular = _tril_nnz(M) == 0
+        asym, lower, big = _symmetry(M)
+        self._triangular = lower == 0
         if self._triangular:
+            _check_copy(M, "J + Jᵀ for an upper-triangular J (pass a symmetric J to use it in place)")
             return M + M.T  # upper-triangular: pair coefficient is J_ij
-        asym = _max_abs(M - M.T)
-        if asym <= SYMMETRY_RTOL * max(_max_abs(M), 1e-300):
-            return (M + M.T) * 0.5
+        if asym == 0:
+            return M  # exactly symmetric: used in place (a memmap stays on disk)
+        if asym <= SYMMETRY_RTOL * max(big, 1e-300):
+            _check_copy(M, "(J + Jᵀ)/2 for a nearly symmetric J")
+            return _half_sum(M)
         if not symmetrize:
             raise InputError(f"J is neither symmetric nor upper-triangular (max |J_ij − J_ji| = {asym:.3g}); "
                              f"pass symmetrize=True to use (J + Jᵀ)/2")
         self.note(f"J was asymmetric (max |J_ij − J_ji| = {asym:.3g}); used (J + Jᵀ)/2 as requested")
-        return (M + M.T) * 0.5
+        _check_copy(M, "(J + Jᵀ)/2")
+        return _half_sum(M)
 
     def _build(self) -> CanonicalProblem:
         factor = ENERGY_SIGNS[self.energy_sign]  # the hardware sign negates J and h
-        return build_canonical(self.pairs * factor, self.h * factor, 0.0, sign=-1.0, shift=self.offset,
+        pairs = self.pairs if factor == 1.0 else _negated(self.pairs)
+        return build_canonical(pairs, self.h * factor, 0.0, sign=-1.0, shift=self.offset,
                                labels=self._labels, form="ising", sense="min")
 
     def with_energy_sign(self, energy_sign: str) -> "Ising":
@@ -159,18 +194,49 @@ class Ising(CachedForm):
             total = -sum(float(v) * s[index[i]] * s[index[j]] for (i, j), v in self._terms.items())
             total -= sum(v * s[index[k]] for k, v in self._fields.items())
             return factor * float(total) + self.offset
+        if is_dask_array(getattr(self._raw, "array", None)):  # K s on the cluster: E = −½sᵀKs − hᵀs
+            return factor * float(-0.5 * s @ self._raw.matvec(s) - self.h @ s) + self.offset
         weight = 1.0 if self._triangular else 0.5  # sᵀJs counts each pair once or twice
-        return factor * float(-weight * s @ (self._raw @ s) - self.h @ s) + self.offset
+        Js = np.asarray(self._raw @ s, dtype=np.float64) if is_sparse(self._raw) else dense_matvec(self._raw, s)
+        return factor * float(-weight * s @ Js - self.h @ s) + self.offset
 
 
-def _tril_nnz(M: Any) -> int:
+def _symmetry(M: Any) -> tuple[float, int, float]:
+    """(max |M_ij − M_ji|, non-zeros below the diagonal, max |M_ij|), a dense M read tile by tile."""
     if is_sparse(M):
         coo = M.tocoo()
-        return int(np.count_nonzero(coo.data[coo.row > coo.col]))
-    return int(np.count_nonzero(np.tril(M, -1)))
+        lower = int(np.count_nonzero(coo.data[coo.row > coo.col]))
+        asym = abs(M - M.T)
+        return (float(asym.max()) if asym.nnz else 0.0), lower, (float(abs(M).max()) if M.nnz else 0.0)
+    asym, lower, big = 0.0, 0, 0.0
+    for rows, cols in dense_tiles(M.shape[0]):
+        upper = np.asarray(M[rows, cols], dtype=np.float64)
+        mirror = np.asarray(M[cols, rows], dtype=np.float64)  # the same tile when rows == cols
+        if upper.size:
+            asym = max(asym, float(np.abs(upper - mirror.T).max()))
+            big = max(big, float(np.abs(upper).max()), float(np.abs(mirror).max()))
+        lower += int(np.count_nonzero(np.tril(mirror, -1) if rows == cols else mirror))
+    return asym, lower, big
 
 
-def _max_abs(M: Any) -> float:
+def _negated(M: Any) -> Any:
+    """−M: couplings held elsewhere stay there (a scale of −1); a dense M is copied once, after a size check."""
+    if hasattr(M, "abs_sum"):
+        return M / -1.0
+    _check_copy(M, "−J for the hardware sign convention")
+    return -M
+
+
+def _check_copy(M: Any, what: str) -> None:
+    if not is_sparse(M):
+        check_dense_memory(M.shape[0], copies=1, itemsize=M.dtype.itemsize, what=what)
+
+
+def _half_sum(M: Any) -> Any:
+    """(M + Mᵀ)/2 with one n×n allocation (of M's dtype) when M is dense."""
     if is_sparse(M):
-        return float(abs(M).max()) if M.nnz else 0.0
-    return float(np.abs(M).max()) if M.size else 0.0
+        return (M + M.T) * 0.5
+    out = np.array(M)
+    out += M.T
+    out *= 0.5
+    return out

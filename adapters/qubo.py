@@ -11,11 +11,11 @@ from typing import Any, Hashable, Iterable, Mapping
 
 import numpy as np
 
-from spinward.core.canonical import CanonicalProblem, is_sparse
+from spinward.core.canonical import CanonicalProblem, dense_matvec, is_sparse
 from spinward.core.errors import InputError
 
 from ._base import CachedForm, build_canonical
-from .validate import as_real_matrix, check_dense_memory, check_number, first_appearance, labels_for
+from .validate import as_real_matrix, check_dense_memory, check_number, dense_tiles, first_appearance, labels_for
 from .terms import dict_to_matrix
 
 
@@ -50,7 +50,6 @@ class QUBO(CachedForm):
 
     def _build(self) -> CanonicalProblem:
         Q = self.Q
-        n = Q.shape[0]
         if is_sparse(Q):
             import scipy.sparse as sp
 
@@ -60,18 +59,13 @@ class QUBO(CachedForm):
             off.eliminate_zeros()
             row = np.asarray(off.sum(axis=1)).ravel()
             off_total = float(row.sum())
+            K = -off / 2
         else:
-            check_dense_memory(n)
-            Qf = np.asarray(Q, dtype=np.float64)
-            S = Qf * 0.5 + Qf.T * 0.5  # halves first: no overflow near the float64 limit
-            d = np.diag(S).copy()
-            off = S
-            np.fill_diagonal(off, 0.0)
-            row = off.sum(axis=1)
+            K, d, row = _dense_parts(Q)
             off_total = float(row.sum())
         linear = -(d / 2 + row / 2)
         constant = -(float(d.sum()) / 2 + off_total / 4)
-        return build_canonical(-off / 2, linear, constant, sign=-1.0, shift=self.offset,
+        return build_canonical(K, linear, constant, sign=-1.0, shift=self.offset,
                                labels=self._labels, form="qubo", sense="min")
 
     def _coefficients(self) -> tuple[Any, ...]:
@@ -94,7 +88,32 @@ class QUBO(CachedForm):
                 i, j = _pair(key)
                 total += float(q) * x[index[i]] * x[index[j]]
             return total + self.offset
-        return float(x @ (self.Q @ x)) + self.offset
+        Qx = np.asarray(self.Q @ x, dtype=np.float64) if is_sparse(self.Q) else dense_matvec(self.Q, x)
+        return float(x @ Qx) + self.offset
+
+
+def _dense_parts(Q: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(K, d, r) of a dense Q: S = (Q + Qᵀ)/2, d = diag S, K = −(S − diag d)/2 (float64), r = row sums of S − diag d.
+
+    Built tile by tile into the one n×n output (Q, a memmap say, is read in place); halves are
+    taken before the sum, so entries near the float64 limit cannot overflow.
+    """
+    n = Q.shape[0]
+    check_dense_memory(n, what="a dense QUBO solve")
+    K = np.empty((n, n), dtype=np.float64)
+    d = np.zeros(n)
+    row = np.zeros(n)
+    for rows, cols in dense_tiles(n):
+        S = np.asarray(Q[rows, cols], dtype=np.float64) * 0.5 + np.asarray(Q[cols, rows], dtype=np.float64).T * 0.5
+        if rows == cols:
+            d[rows] = np.diag(S)
+            np.fill_diagonal(S, 0.0)
+        row[rows] += S.sum(axis=1)
+        K[rows, cols] = S * -0.5
+        if rows != cols:
+            row[cols] += S.sum(axis=0)
+            K[cols, rows] = K[rows, cols].T
+    return K, d, row
 
 
 def _pair(key: Any) -> tuple[Hashable, Hashable]:

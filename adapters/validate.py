@@ -33,7 +33,8 @@ def as_real_matrix(data: Any, name: str) -> Any:
         return _as_real_sparse(data, name)
     arr = _to_ndarray(data, name)
     _check_square(arr.shape, name)
-    check_dense_memory(arr.shape[0])
+    if not isinstance(arr, np.memmap):  # a memmap is never copied here; the forms check before they copy
+        check_dense_memory(arr.shape[0])
     arr = _exact_float(arr, name)
     _check_finite_dense(arr, name)
     return arr
@@ -160,6 +161,22 @@ def _check_finite_dense(arr: np.ndarray, name: str) -> None:
             raise InputError(f"{name}[{start + i}, {j}] is {float(block[i, j])}; every entry must be finite")
 
 
+#: side of the square tiles in which dense checks read a matrix (a 1024² float64 tile is 8 MiB)
+TILE = 1024
+
+
+def dense_tiles(n: int, size: int | None = None) -> Iterable[tuple[slice, slice]]:
+    """(rows, cols) slices of the tiles on and above the diagonal of an n×n matrix.
+
+    Reading a tile and its mirror [cols, rows] together visits every entry once per pair, in
+    pieces that a memory-mapped file serves page by page (a column strip would touch every page).
+    """
+    size = size or TILE
+    for r in range(0, n, size):
+        for c in range(r, n, size):
+            yield slice(r, min(r + size, n)), slice(c, min(c + size, n))
+
+
 def _check_finite_sparse(m: Any, name: str) -> None:
     bad = ~np.isfinite(m.data)
     if bad.any():
@@ -247,6 +264,20 @@ def available_memory() -> int:
     return 1 << 62
 
 
+#: bytes per n² entry that a dense solve allocates beyond the caller's matrix, and a fixed part.
+#: Measured (extra peak RSS, VmHWM, of spinward.solve on a dense float64 QUBO, fresh process):
+#: n = 4000: 296 MB ("auto" and "iamp"), 314 MB ("sdp"), 270 MB ("anneal", "tabu"); n = 8000:
+#: 1014 MB ("auto").  The canonical K (8 bytes), the solver's float32 and int16 working copies
+#: (6, freed before the bound) and the spectral bound's float64 copy of the lift (8) make it.
+DENSE_SOLVE_BYTES_PER_ENTRY = 17
+DENSE_SOLVE_FIXED_BYTES = 32 << 20
+
+
+def dense_solve_estimate(n: int) -> int:
+    """Bytes a dense solve of n spins allocates beyond the caller's input (see DENSE_SOLVE_BYTES_PER_ENTRY)."""
+    return DENSE_SOLVE_BYTES_PER_ENTRY * n * n + DENSE_SOLVE_FIXED_BYTES
+
+
 def memory_limit() -> int:
     """Bytes the dense paths may assume are free: SPINWARD_MEMORY_LIMIT, else 80% of MemAvailable."""
     raw = os.environ.get("SPINWARD_MEMORY_LIMIT", "")
@@ -256,14 +287,35 @@ def memory_limit() -> int:
         raise InputError(f"SPINWARD_MEMORY_LIMIT must be an integer number of bytes, got {raw!r}") from None
 
 
-def check_dense_memory(n: int, copies: int = 2, itemsize: int = 8, what: str = "the dense coupling matrix") -> None:
-    """Refuse before allocating when n×n dense storage would not fit in memory."""
-    need = copies * n * n * itemsize
+def check_dense_memory(n: int, copies: int | None = None, itemsize: int = 8,
+                       what: str = "a dense solve") -> None:
+    """Refuse before allocating when dense storage for n spins would not fit in memory.
+
+    ``copies`` n×n arrays of ``itemsize`` bytes when given; else the whole solve's measured need,
+    :func:`dense_solve_estimate`.  The error suggests the out-of-core path with its own numbers.
+    """
+    need = dense_solve_estimate(n) if copies is None else copies * n * n * itemsize
     limit = memory_limit()
     if need > limit:
         raise ResourceError(f"{what} for n = {n} needs about {need / 2**30:.1f} GiB, more than the "
-                            f"{limit / 2**30:.1f} GiB available; pass a scipy.sparse matrix for sparse couplings, "
-                            f"or a float32 numpy memmap with method='iamp' for dense ones")
+                            f"{limit / 2**30:.1f} GiB available. For sparse couplings pass a scipy.sparse matrix; "
+                            f"for dense ones, save the symmetric J once as a float32 memmap (n² × 4 bytes = "
+                            f"{4 * n * n / 2**30:.1f} GiB on disk: np.save(path, J.astype(np.float32))) and solve "
+                            f"spinward.Ising(np.load(path, mmap_mode='r')) with method='iamp' and bound=False: "
+                            f"J is then read from the file in blocks, never copied, and the solve needs about "
+                            f"{out_of_core_estimate(n) / 2**30:.2f} GiB of memory besides the file's page cache")
+
+
+#: anonymous memory of the out-of-core iamp path (bound=False): a fixed part (Python, numpy, numba,
+#: scipy) and vectors of length n.  Measured peak RssAnon (examples/benchmarks/dense.py, float32
+#: memmap, whole path from np.load to the Result): 142 MB at n = 24 000, 181 MB at n = 50 000.
+OUT_OF_CORE_FIXED_BYTES = 128 << 20
+OUT_OF_CORE_VECTORS = 256
+
+
+def out_of_core_estimate(n: int) -> int:
+    """Bytes of memory (not page cache) that ``method='iamp'`` needs on a memory-mapped float32 J."""
+    return OUT_OF_CORE_FIXED_BYTES + OUT_OF_CORE_VECTORS * 8 * n
 
 
 def first_appearance(keys: Iterable[Hashable]) -> list[Hashable]:
@@ -300,6 +352,10 @@ MAX_FRACTION_BITS = 40
 
 
 def _blocks(part: Any) -> Iterable[np.ndarray]:
+    if hasattr(part, "fraction_bits"):  # couplings held elsewhere: the blocks report their own digits
+        bits = int(part.fraction_bits())
+        yield np.array([math.ldexp(1.0, -bits)]) if bits else np.zeros(0)
+        return
     if is_sparse(part):
         yield np.asarray(part.data if hasattr(part, "data") else part.tocoo().data, dtype=np.float64)
         return

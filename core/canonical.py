@@ -12,7 +12,7 @@ caller's sense ("min" or "max").  ``labels[i]`` is the caller's name of spin i.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any, Hashable, Literal, Sequence
+from typing import Any, Callable, Hashable, Literal, Protocol, Sequence
 
 import numpy as np
 
@@ -20,6 +20,53 @@ from .errors import InputError
 
 Sense = Literal["min", "max"]
 ROW_BLOCK = 512  # rows per block when streaming a float32 or memory-mapped K
+MATVEC_BLOCK_ENTRIES = 1 << 19  # entries per block of dense_matvec (a 4 MiB float64 temporary)
+
+
+def dense_matvec(K: Any, x: np.ndarray) -> np.ndarray:
+    """K @ x in float64 for a dense K of any float dtype (a memmap is fine), read in row blocks.
+
+    A float64 in-memory K is multiplied directly; any other K is converted a block of about
+    ``MATVEC_BLOCK_ENTRIES`` entries at a time, so no full float64 copy of K is ever made (numpy
+    would make one to multiply a float32 matrix by a float64 vector).
+    """
+    x = np.asarray(x, dtype=np.float64)
+    if K.dtype == np.float64 and not isinstance(K, np.memmap):
+        return np.asarray(K @ x, dtype=np.float64)
+    out = np.empty(K.shape[0])
+    rows = max(1, MATVEC_BLOCK_ENTRIES // max(K.shape[1], 1))
+    for start in range(0, K.shape[0], rows):
+        out[start:start + rows] = np.asarray(K[start:start + rows], dtype=np.float64) @ x
+    return out
+
+
+class RowBlocks(Protocol):
+    """Couplings held elsewhere in row blocks (the workers of a cluster, say): a LinearOperator-like K.
+
+    Such a K has kind "operator", so only operator-capable solvers take it; those that know
+    this protocol also get exact moments and can run a function where each block lives, so
+    that only vectors of length n travel (adapters/distributed.py holds the dask version).
+    ``bounds[k]`` is the (first, end) row range of block k; blocks are in row order.
+    """
+
+    shape: tuple[int, int]
+    bounds: tuple[tuple[int, int], ...]
+    scale: float  # K = (M − diag M) / scale, M the symmetric matrix whose rows the blocks hold
+
+    def matvec(self, x: np.ndarray) -> np.ndarray: ...            # K x in float64
+
+    def matvec_as(self, x: np.ndarray, dtype: Any) -> np.ndarray: ...  # K x computed in dtype, returned as float64
+
+    def power_sums(self) -> tuple[float, float, float, float, int, float]: ...  # Σx..Σx⁴, #non-zero, max|x|, off-diagonal
+
+    def max_abs(self) -> float: ...
+
+    def on_block(self, k: int, fn: Callable[..., Any], *args: Any) -> Any: ...  # fn(rows of M, first row, *args) where block k lives
+
+
+def row_blocks(K: Any) -> RowBlocks | None:
+    """K itself when it follows the :class:`RowBlocks` protocol, else None."""
+    return K if all(hasattr(K, name) for name in ("bounds", "matvec_as", "power_sums", "on_block")) else None
 
 
 def is_sparse(K: Any) -> bool:
@@ -85,14 +132,9 @@ class CanonicalProblem:
         """
         if self.kind == "operator":
             return np.asarray(self.K.matvec(x), dtype=np.float64)
-        K = self.K
-        if self.kind == "dense" and (K.dtype != np.float64 or isinstance(K, np.memmap)):
-            x = np.asarray(x, dtype=np.float64)
-            out = np.empty(K.shape[0])
-            for start in range(0, K.shape[0], ROW_BLOCK):
-                out[start:start + ROW_BLOCK] = np.asarray(K[start:start + ROW_BLOCK], dtype=np.float64) @ x
-            return out
-        return np.asarray(K @ x, dtype=np.float64)
+        if self.kind == "dense":
+            return dense_matvec(self.K, x)
+        return np.asarray(self.K @ x, dtype=np.float64)
 
     def max_abs_coupling(self) -> float:
         """max |K_ij| (0 for an empty or operator K), computed once without an n² temporary."""
@@ -162,7 +204,9 @@ class CanonicalProblem:
             K2 = sp.block_array([[self.K, col], [col.T, None]], format="csr")
         else:
             K2 = np.zeros((n + 1, n + 1), dtype=np.float64)
-            K2[:n, :n] = self.dense_K()
+            for start in range(0, n, ROW_BLOCK):  # cast block by block: no temporary copy of K
+                end = min(start + ROW_BLOCK, n)
+                K2[start:end, :n] = self.K[start:end]
             K2[:n, n] = self.b
             K2[n, :n] = self.b
         return CanonicalProblem(K2, np.zeros(n + 1), self.k0, tuple(range(n + 1)), form="ghost")

@@ -48,3 +48,25 @@ def sweep_csr(indptr, indices, data, h, sigma, tol, max_sweeps):  # pragma: no c
         if not changed:
             break
     return flips
+
+
+@nb.njit(cache=True)
+def sweep_rows(rows, first, factor, h, sigma, tol):  # pragma: no cover - compiled
+    """One first-improvement pass over spins first..first+len(rows) only, from their rows (of a symmetric M, K = factor·M).
+
+    h and sigma are the full vectors, updated in place; M's diagonal entry is not a coupling.
+    Passes over consecutive blocks in order make exactly the flips of :func:`sweep_dense`.
+    """
+    n = sigma.shape[0]
+    flips = 0
+    for a in range(rows.shape[0]):
+        i = first + a
+        if -2.0 * sigma[i] * h[i] > tol:
+            sigma[i] = -sigma[i]
+            step = 2.0 * sigma[i] * factor
+            row = rows[a]
+            for j in range(n):
+                h[j] += step * row[j]
+            h[i] -= step * row[i]
+            flips += 1
+    return flips

@@ -3,58 +3,103 @@
 Canonical sense: maximise C(σ) = ½σᵀKσ + bᵀσ + k₀.  The couplings are normalised to the
 mean-field scale of docs/conventions.md, A = (K − m(11ᵀ − I)) / (s√n), so that on dense
 mean-zero i.i.d.-like couplings max ½σᵀAσ ≈ n·P* (P* ≈ 0.7632) and IAMP provably reaches
-(1 − ε)·P* (arXiv:1812.10897).  Fields are absorbed by one extra spin (with a warning: the
-guarantee no longer applies).  Each run rounds the IAMP magnetisation by sign and climbs to a
-1-flip local optimum of the true problem, then (``polish_sweeps``) walks at low temperature
-from there and climbs again, keeping the better state.
+(1 − ε)·P* (arXiv:1812.10897).  Fields enter through the Parisi formula with their empirical
+law, and IAMP runs in two phases, root finding then increments (plugins/iamp/fields.py;
+El Alaoui, Montanari & Sellke, arXiv:2001.00904); option ``fields="ghost"`` instead absorbs
+them by one extra spin (with a warning: the guarantee no longer applies).
+
+Three stages, each reported on its own in the result's info (``stages``):
+1. IAMP: ``solutions`` runs, each rounded by sign (the state the guarantee is about);
+2. clean-up: each rounded state climbs to a 1-flip local optimum of the true problem;
+3. polish (plugins/iamp/polish.py): rounds of low-temperature re-annealing from the cleaned
+   states (``polish_sweeps`` sweeps each, β from ``polish_betas[0]`` to ``[1]`` in units of A);
+   the best state is kept, so the polish never loses what the first two stages found.
 
 Result info: the predicted optimum is the result's ``info["prediction"]`` (from ``predict``, in the
 caller's units); here fraction_of_prediction
 (e/P*, the fluctuation part only, so a large mean part cannot inflate it),
 energy_per_spin_rounded / _cleaned / energy_per_spin (final, after the polish), where
-e = fluctuation part / (s·n^{3/2}), and overlaps (solutions > 1).
+e = fluctuation part / (s·n^{3/2}), ``stages`` (seconds and gain of each stage, per spin and
+in canonical units), ``guarantee`` (which state the IAMP guarantee covers), and overlaps (solutions > 1).
 
-Precision: by default (``precision="auto"``) the matvecs and the polish use a float32 working
-copy of a dense K (streamed block by block when no copy fits) or of a sparse K; reported values
-are always computed from the caller's K.  ``precision="float64"`` computes in float64.
+Precision: by default (``precision="auto"``) the matvecs use a float32 working copy of a dense K
+(a memmap, or a K too large for a copy, is streamed block by block) and the polish walks on
+an int16 copy (plugins/common/quantised.py) when it is accurate; reported values are always
+computed from the caller's K.  ``precision="float64"`` computes in float64 throughout.
 
-Time limits are checked at every IAMP step; the first Parisi solve (a few seconds, then cached
-on disk), the statistics pass, the Lanczos check and the polish run to completion.
+Time limits are checked at every IAMP step and every polish chunk; with a limit, polish rounds
+go on while another fits.  The first Parisi solve (a few seconds, then cached on disk), the
+statistics pass and the Lanczos check run to completion.
 """
 
 from __future__ import annotations
 
 import math
 import time
-from dataclasses import replace
-from typing import Any
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+from typing import Annotated, Any, Literal
 
 import numpy as np
 
+from pydantic import Field
+
 from spinward.core import CanonicalProblem, Capabilities, InputError, Solution, SolveContext, SolverSpec, hookimpl
+from spinward.core.canonical import row_blocks
+from spinward.core.options import SolverOptions
 from spinward.core.statistics import CouplingStats
+from spinward.core.statistics import _from_sums as from_power_sums  # the core's one moment formula
 
 from . import diagnostics as diag
-from .message_passing import Matvec, iamp, normalised, raw_matvec, with_ghost
-from .prediction import ASSUMPTION, MIN_PREDICTION_N, advise, fit, fluctuation_e, predict, prediction
+from .fields import ROOT_ITERATIONS, energy_per_spin, field_tables
+from .message_passing import Matvec, find_root, iamp, normalised, raw_matvec, with_ghost
+from .polish import PolishOutcome, PolishPlan, auto_betas, make_walker, run_polish, scale_of, walker_precision
+from .prediction import ASSUMPTION, MIN_PREDICTION_N, advise, fit, fluctuation_e, mean_part, predict, prediction
 
-OPTIONS: dict[str, Any] = {
-    "solutions": "auto",     # independent IAMP runs sharing one Parisi solution; the best is returned
-    "delta": 0.005,          # variance of each increment (1/δ steps, one matvec each)
-    "parisi_k": 50,          # levels of the Parisi γ that drives IAMP
-    "project": 2,            # z is made orthogonal to this many latest inputs (0 = plain IAMP)
-    "spectrum_check": True,  # Lanczos estimate of the extreme eigenvalues of A (costs lanczos_steps matvecs)
-    "lanczos_steps": 16,
-    "coupling_std": None,    # the scale s, for a LinearOperator (else estimated from probes)
-    "probes": 8,             # Hutchinson probes for s when K is a LinearOperator
-    "polish_sweeps": 3000,   # low-temperature Metropolis sweeps after the clean-up (0 = none)
-    "precision": "auto",     # matvecs and polish in float32 ("auto", "float32") or float64
-}
-#: polish temperatures in units of A (T_c = 1 for SK): β runs linearly between these
-POLISH_BETAS = (1.5, 15.0)
+class IampOptions(SolverOptions):
+    """Options of the IAMP solver (see the module docstring)."""
+
+    solutions: Literal["auto"] | Annotated[int, Field(ge=1, le=10_000)] = Field(
+        "auto", description="independent IAMP runs sharing one Parisi solution ('auto': (2000/n)², 1 to 4)")
+    delta: float = Field(0.005, ge=1e-4, le=0.5, description="variance of each increment (1/δ steps, one product each)")
+    parisi_k: int = Field(50, ge=1, le=200, description="levels of the Parisi γ that drives IAMP")
+    project: int = Field(2, ge=0, le=16, description="z is made orthogonal to this many latest inputs (0: plain IAMP)")
+    spectrum_check: bool = Field(True, description="Lanczos estimate of the extreme eigenvalues of A")
+    lanczos_steps: int = Field(16, ge=2, le=500, description="products of the spectrum check")
+    coupling_std: float | None = Field(None, gt=0.0, description="the scale s for a LinearOperator (else estimated)")
+    probes: int = Field(8, ge=1, le=1000, description="random probes that estimate s for a LinearOperator")
+    polish_sweeps: int = Field(6000, ge=0, le=10**7, description="sweeps per polish round after the clean-up (0: none)")
+    polish_rounds: Literal["auto"] | Annotated[int, Field(ge=1, le=10**6)] = Field(
+        "auto", description="polish rounds ('auto': 1 without a time limit, as many as fit with one)")
+    polish_betas: Literal["auto"] | tuple[float, float] = Field(
+        "auto", description="first and last β of the polish in units of A ('auto': 1.2 or, from n = 8000, 1.5 to 20)")
+    precision: Literal["auto", "float32", "float64"] = Field(
+        "auto", description="'auto': float32 products, int16 polish; or float32 / float64 throughout")
+    block_visit_sweeps: int = Field(1, ge=1, le=10**6, description="couplings in row blocks on a cluster: polish "
+                                                                   "sweeps per visit of a block (1: the in-memory walk)")
+    fields: Literal["parisi", "ghost"] = Field("parisi", description="fields through the Parisi formula with their "
+                                                                      "law (two-phase IAMP) or by a ghost spin")
+
+
+OPTIONS: dict[str, Any] = {name: field.default for name, field in IampOptions.model_fields.items()}
+FIELD_MODES = ("parisi", "ghost")
 #: "auto" runs: as many as cost one run at this size (a run costs ∝ n²), at most AUTO_MAX_RUNS
 AUTO_REFERENCE_N = 2000
 AUTO_MAX_RUNS = 4
+#: bytes the polish's integer copy of K may take
+INTEGER_COPY_LIMIT = 1 << 30
+
+
+@dataclass(frozen=True)
+class Drive:
+    """What drives every IAMP run: the Parisi tables, the start (the root-finding phase with fields), P."""
+
+    tables: Any
+    cached: bool
+    value: float                 # the Parisi value the tables come from (P_k, or P*(μ) with fields)
+    start: tuple[np.ndarray, np.ndarray] | None
+    with_fields: bool            # e counts the fields' term (the Parisi field mode)
+    info: dict[str, Any]
 
 
 def _int_option(ctx: SolveContext, name: str, low: int, high: int) -> int:
@@ -91,28 +136,32 @@ def working_precision(problem: CanonicalProblem, ctx: SolveContext) -> tuple[tup
     """(working couplings for the polish, dtype of the IAMP matvecs).
 
     "auto" computes in float32 (the method is matvec-bound and float32 couplings lose nothing
-    measurable); a dense K too large for a float32 copy is used as given (plugins.common.couplings)
-    and streamed, each block cast on the fly.
+    measurable); a memmap, or a dense K too large for a float32 copy, is used as given
+    (plugins.common.couplings) and streamed, each block cast on the fly.
     """
     from spinward.plugins.common.couplings import check_precision, working_couplings
 
     precision = check_precision(ctx.option("precision", OPTIONS["precision"]), "iamp")
     dtype = np.float64 if precision == "float64" else np.float32
-    if problem.kind == "operator":
-        return (problem.K,), dtype
+    if problem.kind == "operator" or isinstance(problem.K, np.memmap):
+        return (problem.K,), dtype  # a memmap is streamed in row blocks, never copied
     return working_couplings(problem, precision, "iamp"), dtype
 
 
-def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext) -> tuple[CouplingStats, list[str]]:
-    """Moments of K's off-diagonal entries (the core's, exact); with fields, of the ghost-augmented matrix."""
+def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext,
+                   ghost: bool = False) -> tuple[CouplingStats, list[str]]:
+    """Moments of K's off-diagonal entries (the core's, exact); with ``ghost``, of the ghost-augmented matrix."""
     notes: list[str] = []
-    if problem.kind == "operator":
+    blocks = row_blocks(problem.K)
+    if blocks is not None:  # every entry read where it lives: exact
+        stats = from_power_sums(problem.n, blocks.power_sums(), problem.n)
+    elif problem.kind == "operator":
         std = ctx.option("coupling_std", None)
         stats, notes = diag.operator_stats(raw, problem.n, ctx.rng, _int_option(ctx, "probes", 1, 1000),
                                            None if std is None else float(std))
     else:
         stats = diag.exact_stats(problem)
-    if problem.has_fields:
+    if ghost:
         stats = _with_ghost_stats(stats, problem.b)
     return stats, notes
 
@@ -131,55 +180,50 @@ def _sign(v: np.ndarray) -> np.ndarray:
     return np.where(v >= 0, 1, -1).astype(np.int8)
 
 
-def polish(problem: CanonicalProblem, couplings: tuple[Any, ...], sigma: np.ndarray, stats: CouplingStats,
-           sweeps: int, seed: int) -> tuple[np.ndarray, float]:
-    """Low-temperature single-flip Metropolis from ``sigma`` (β linear from 1.5 to 15 in units of A), then greedy.
+def _polish_plan(ctx: SolveContext, stats: CouplingStats) -> PolishPlan | None:
+    """The polish settings from the options (None when ``polish_sweeps`` is 0)."""
+    sweeps = _int_option(ctx, "polish_sweeps", 0, 10**7)
+    if sweeps == 0:
+        return None
+    rounds = ctx.option("polish_rounds", OPTIONS["polish_rounds"])
+    if rounds != "auto" and (isinstance(rounds, bool) or not isinstance(rounds, (int, np.integer))
+                             or not 1 <= rounds <= 10**6):
+        raise InputError(f"option 'polish_rounds' must be 'auto' or an integer in [1, 1000000], got {rounds!r}")
+    betas = ctx.option("polish_betas", OPTIONS["polish_betas"])
+    if betas == "auto":
+        betas = auto_betas(stats.n)
+    try:
+        lo, hi = (float(v) for v in betas)
+    except (TypeError, ValueError):
+        lo = hi = math.nan
+    if not 0 < lo <= hi < math.inf:
+        raise InputError(f"option 'polish_betas' must be 'auto' or two numbers 0 < first <= last (units of A, "
+                         f"e.g. (1.2, 20)), got {betas!r}")
+    return PolishPlan(sweeps, None if rounds == "auto" else int(rounds), (lo, hi), scale_of(stats.std, stats.n))
 
-    ``couplings`` is the working copy of K (plugins.common.couplings).  The IAMP state sits in
-    a good region; a walk at T ≤ 0.67·T_c finds better nearby local optima.  Measured at
-    n = 4000 (4 instances, float32): 1000 sweeps from β = 2 gave +0.0018 per spin in 0.16 s,
-    3000 sweeps from β = 1.5 +0.0031 in 0.57 s, 6000 sweeps +0.0033 in 1.1 s.
-    """
+
+def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, drive: Drive, ctx: SolveContext,
+             project: int) -> dict[str, Any]:
+    """One IAMP run, rounded by sign and cleaned by a greedy climb on the true problem."""
     from spinward.plugins.common.flips import local_search
 
-    from . import _kernels as kern
-
-    s = np.asarray(sigma, dtype=np.float64).copy()
-    h = problem.local_fields(s)
-    betas = np.linspace(*POLISH_BETAS, sweeps) / (stats.std * np.sqrt(stats.n))
-    if problem.kind == "sparse":
-        kern.metropolis_csr(*couplings, h, s, betas, seed)
-    else:
-        kern.metropolis_dense(*couplings, h, s, betas, seed)
-    return local_search(problem, s.astype(np.int8))
-
-
-def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, tables: Any, ctx: SolveContext,
-             project: int, stats: CouplingStats, couplings: tuple[Any, ...] | None) -> dict[str, Any]:
-    from spinward.plugins.common.flips import local_search
+    from .distributed import block_local_search
 
     start = time.perf_counter()
-    res = iamp(A, n_eff, tables, ctx.rng, project=project, should_stop=ctx.should_stop)
+    res = iamp(A, n_eff, drive.tables, ctx.rng, project=project, should_stop=ctx.should_stop, start=drive.start)
     seconds = time.perf_counter() - start
     rounded = _sign(res.m)
     if n_eff > problem.n:  # ghost spin last: undo the gauge
         rounded = (rounded[:-1] * rounded[-1]).astype(np.int8)
     rounded_value = problem.value(rounded)
-    sigma, value = local_search(problem, rounded)
+    start = time.perf_counter()
+    climb = block_local_search if row_blocks(problem.K) is not None else local_search
+    sigma, value = climb(problem, rounded)
     ctx.offer(sigma, value)
-    out = {"sigma": sigma, "value": value, "rounded": rounded, "rounded_value": rounded_value,
-           "cleaned": sigma, "cleaned_value": value, "steps": res.steps, "stopped": res.stopped,
-           "seconds": seconds, "matvec_seconds": res.matvec_seconds, "polish_seconds": 0.0}
-    sweeps = _int_option(ctx, "polish_sweeps", 0, 10**7)
-    if sweeps and couplings is not None and not ctx.should_stop():
-        start = time.perf_counter()
-        seed = int(ctx.rng.integers(0, 2**31 - 1))
-        polished, pvalue = polish(problem, couplings, sigma, stats, sweeps, seed)
-        out["polish_seconds"] = time.perf_counter() - start
-        if pvalue > value:
-            out["sigma"], out["value"] = polished, pvalue
-            ctx.offer(polished, pvalue)
-    return out
+    return {"sigma": sigma, "value": value, "rounded": rounded, "rounded_value": rounded_value,
+            "cleaned": sigma, "cleaned_value": value, "steps": res.steps, "stopped": res.stopped,
+            "seconds": seconds, "matvec_seconds": res.matvec_seconds,
+            "clean_up_seconds": time.perf_counter() - start}
 
 
 def _edges(A: Matvec, n_eff: int, ctx: SolveContext) -> tuple[float, float] | None:
@@ -188,18 +232,58 @@ def _edges(A: Matvec, n_eff: int, ctx: SolveContext) -> tuple[float, float] | No
     return diag.lanczos_extremes(A, n_eff, ctx.rng, _int_option(ctx, "lanczos_steps", 2, 500))
 
 
-def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
-    """IAMP runs (``solutions`` of them) sharing one Parisi solution; the best cleaned state is returned."""
+def _polish_runs(problem: CanonicalProblem, runs: list[dict], couplings: tuple[Any, ...], stats: CouplingStats,
+                 ctx: SolveContext) -> PolishOutcome | None:
+    """Polish rounds from the cleaned IAMP states (None when disabled, stopped, or K is an operator)."""
+    plan = _polish_plan(ctx, stats)
+    if plan is None or ctx.should_stop() or (problem.kind == "operator" and row_blocks(problem.K) is None):
+        return None
+    precision = str(ctx.option("precision", OPTIONS["precision"]))
+    walker = make_walker(problem, couplings, stats.std, precision, INTEGER_COPY_LIMIT,
+                         _int_option(ctx, "block_visit_sweeps", 1, 10**6))
+    outcome = run_polish(problem, [(r["cleaned"], r["cleaned_value"]) for r in runs], plan, walker, ctx)
+    outcome.precision, outcome.betas = walker_precision(walker), plan.betas
+    return outcome
+
+
+def _field_mode(problem: CanonicalProblem, ctx: SolveContext) -> str:
+    """"none" without fields, else the ``fields`` option ("parisi" or "ghost")."""
+    mode = ctx.option("fields", OPTIONS["fields"])
+    if mode not in FIELD_MODES:
+        raise InputError(f"option 'fields' must be 'parisi' or 'ghost', got {mode!r}")
+    return str(mode) if problem.has_fields else "none"
+
+
+def _drive(problem: CanonicalProblem, A: Matvec, stats: CouplingStats, mode: str, steps: int,
+           ctx: SolveContext) -> Drive:
+    """The tables (and, with fields, the root-finding phase's state) that drive every run."""
     from .parisi import load_tables
 
+    k = _int_option(ctx, "parisi_k", 1, 200)
+    if mode != "parisi":
+        tables, cached = load_tables(k, steps)
+        return Drive(tables, cached, tables.value, None, False, {"mode": mode} if mode != "none" else {})
+    h = np.asarray(problem.b, dtype=np.float64) / scale_of(stats.std, stats.n)
+    ft = field_tables(h, k, steps)
+    x, m, change = find_root(A, h, ft.tables.x, ft.tables.d1[0], ft.tables.d2[0], ROOT_ITERATIONS, ctx.should_stop)
+    info = {"mode": "parisi", "parisi_value": ft.value, "q_min": ft.q_min, "root_time": ft.root_time,
+            "root_iterations": ROOT_ITERATIONS, "root_last_change": change,
+            "normalised_field_mean": float(h.mean()), "normalised_field_rms": float(np.sqrt(np.mean(h * h)))}
+    return Drive(ft.tables, ft.cached, ft.value, (x, m), True, info)
+
+
+def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
+    """IAMP runs (``solutions`` of them) sharing one Parisi solution, cleaned, then polished; the best is returned."""
     runs_wanted = _runs_wanted(ctx, problem.n)
     steps = int(round(1.0 / _delta(ctx)))
     project = _int_option(ctx, "project", 0, 16)
+    mode = _field_mode(problem, ctx)
+    _polish_plan(ctx, CouplingStats(1, 0, 0.0, 1.0, 0.0, 1.0, None, 0.0))  # bad options fail before any work
     couplings, dtype = working_precision(problem, ctx)
     raw = raw_matvec(couplings[0] if problem.kind == "dense" else problem.K, problem.kind, dtype)
-    if problem.has_fields:
+    if mode == "ghost":
         raw = with_ghost(raw, np.asarray(problem.b, dtype=np.float64))
-    stats, stat_notes = coupling_stats(problem, raw, ctx)
+    stats, stat_notes = coupling_stats(problem, raw, ctx, ghost=mode == "ghost")
     n_eff = stats.n
     if problem.n < 2 or stats.std == 0:
         from spinward.plugins.common.flips import local_search
@@ -209,42 +293,103 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
         return Solution(sigma=sigma, info={"eligible": False})
     A = normalised(raw, stats.mean, stats.std)
     edges = _edges(A, n_eff, ctx)
-    notes, eligible = diag.findings(stats, edges, problem.has_fields, stat_notes)
+    notes, eligible = diag.findings(stats, edges, mode == "ghost", stat_notes)
     for note in notes:
         ctx.warn(note)
-    tables, cached = load_tables(_int_option(ctx, "parisi_k", 1, 200), steps)
+    drive = _drive(problem, A, stats, mode, steps, ctx)
     runs = []
     for _ in range(runs_wanted):
-        runs.append(_one_run(problem, A, n_eff, tables, ctx, project, stats,
-                             None if problem.kind == "operator" else couplings))
+        runs.append(_one_run(problem, A, n_eff, drive, ctx, project))
         if ctx.should_stop():
             break
-    best = max(runs, key=lambda r: r["value"])
-    info = _info(problem, stats, edges, eligible, tables, cached, runs, best)
+    polished = _polish_runs(problem, runs, couplings, stats, ctx)
+    best = dict(max(runs, key=lambda r: r["value"]))
+    if polished is not None and polished.value > best["value"]:
+        best["sigma"], best["value"] = polished.sigma, polished.value
+    info = _info(problem, stats, edges, eligible, drive, runs, best, polished)
     return Solution(sigma=best["sigma"], info=info)
 
 
-def _info(problem: CanonicalProblem, stats: CouplingStats, edges: Any, eligible: bool, tables: Any,
-          cached: bool, runs: list[dict], best: dict) -> dict[str, Any]:
+def energy(problem: CanonicalProblem, stats: CouplingStats, drive: Drive, sigma: np.ndarray, value: float) -> float:
+    """e of docs/conventions.md: the fluctuation part per s·n^{3/2}; with the Parisi field mode the fields' term too."""
+    if drive.with_fields:
+        return energy_per_spin(value, problem.k0, mean_part(stats.mean, sigma, problem.n), stats.std, problem.n)
+    return fluctuation_e(problem, sigma, value, stats)
+
+
+def _stages(problem: CanonicalProblem, e: Callable[[np.ndarray, float], float], runs: list[dict], best: dict,
+            polished: PolishOutcome | None) -> dict[str, Any]:
+    """Seconds and gain of each stage: IAMP (rounded), clean-up (greedy), polish (re-anneal rounds).
+
+    Gains are in canonical units (``gain``) and in e, the energy per spin of docs/conventions.md
+    (``gain_per_spin``, differences of e between the stage's end and start states, so the three
+    add up to the final e); the clean-up's gain is that of the best cleaned run over its own
+    rounded state.
+    """
+    top = max(runs, key=lambda r: r["cleaned_value"])
+    e_rounded, e_cleaned = e(top["rounded"], top["rounded_value"]), e(top["cleaned"], top["cleaned_value"])
+    stages: dict[str, Any] = {
+        "iamp": {"seconds": sum(r["seconds"] for r in runs), "runs": len(runs), "value": top["rounded_value"],
+                 "energy_per_spin": e_rounded},
+        "clean_up": {"seconds": sum(r["clean_up_seconds"] for r in runs), "method": "greedy single flips",
+                     "gain": top["cleaned_value"] - top["rounded_value"], "gain_per_spin": e_cleaned - e_rounded},
+    }
+    if polished is not None:
+        stages["polish"] = {"seconds": polished.seconds, "rounds": len(polished.round_values),
+                            "sweeps": polished.sweeps, "moves": polished.moves, "stopped_early": polished.stopped,
+                            "precision": polished.precision, "betas": list(polished.betas),
+                            "round_values": polished.round_values, "gain": best["value"] - top["cleaned_value"],
+                            "gain_per_spin": e(best["sigma"], best["value"]) - e_cleaned}
+    return stages
+
+
+GUARANTEE_NOTE = ("the IAMP guarantee ((1 − ε)·P* as n → ∞, on mean-field couplings) is about the rounded IAMP "
+                  "state; the clean-up and the polish only ever improve on it (the best state is kept), "
+                  "without a guarantee of their own")
+
+
+def _info(problem: CanonicalProblem, stats: CouplingStats, edges: Any, eligible: bool, drive: Drive,
+          runs: list[dict], best: dict, polished: PolishOutcome | None) -> dict[str, Any]:
+    def e(sigma: np.ndarray, value: float) -> float:
+        return energy(problem, stats, drive, sigma, value)
+
+    top = max(runs, key=lambda r: r["cleaned_value"])
     info: dict[str, Any] = {
         "eligible": eligible, "coupling_mean": stats.mean, "coupling_std": stats.std,
         "density": stats.density if stats.exact else None, "excess_kurtosis": stats.excess_kurtosis,
         "scale_exact": stats.exact,
-        "spectrum_edges": edges, "parisi_cached": cached, "iterations": best["steps"],
+        "spectrum_edges": edges, "parisi_cached": drive.cached, "iterations": top["steps"],
         "iamp_seconds": [r["seconds"] for r in runs], "iamp_matvec_seconds": [r["matvec_seconds"] for r in runs],
-        "stopped_early": any(r["stopped"] for r in runs),
-        "energy_per_spin_rounded": fluctuation_e(problem, best["rounded"], best["rounded_value"], stats),
-        "energy_per_spin_cleaned": fluctuation_e(problem, best["cleaned"], best["cleaned_value"], stats),
-        "energy_per_spin": fluctuation_e(problem, best["sigma"], best["value"], stats),
-        "polish_seconds": [r["polish_seconds"] for r in runs],
-        "energy_per_spin_runs": [fluctuation_e(problem, r["sigma"], r["value"], stats) for r in runs],
+        "stopped_early": any(r["stopped"] for r in runs) or bool(polished and polished.stopped),
+        "energy_per_spin_rounded": e(top["rounded"], top["rounded_value"]),
+        "energy_per_spin_cleaned": e(top["cleaned"], top["cleaned_value"]),
+        "energy_per_spin": e(best["sigma"], best["value"]),
+        "polish_seconds": polished.seconds if polished is not None else 0.0,
+        "energy_per_spin_runs": [e(r["cleaned"], r["cleaned_value"]) for r in runs],
+        "stages": _stages(problem, e, runs, best, polished),
+        "guarantee": GUARANTEE_NOTE,
     }
+    if drive.info:
+        info["fields"] = drive.info
     if eligible and problem.n >= MIN_PREDICTION_N:
-        info.update(prediction(problem, stats, tables.value, best))
+        if drive.with_fields:
+            info.update(field_prediction(problem, stats, drive.value, best, info["energy_per_spin"]))
+        else:
+            info.update(prediction(problem, stats, drive.value, best))
     if len(runs) > 1:
-        S = np.stack([r["sigma"] for r in runs]).astype(np.float64)
+        S = np.stack([r["cleaned"] for r in runs]).astype(np.float64)
         info["overlaps"] = (S @ S.T / problem.n).round(6).tolist()
     return info
+
+
+def field_prediction(problem: CanonicalProblem, stats: CouplingStats, pstar: float, best: dict,
+                     e_best: float) -> dict[str, Any]:
+    """P*(μ) in canonical units: s·n^{3/2}·P*(μ) + k₀ + the mean part of the returned state (it is not predicted)."""
+    n = problem.n
+    return {"predicted_optimum": stats.std * n**1.5 * pstar + problem.k0 + mean_part(stats.mean, best["sigma"], n),
+            "fraction_of_prediction": e_best / pstar, "parisi_value": pstar,
+            "prediction_note": "the Parisi formula with the fields' empirical law (fields independent of the "
+                               "couplings); the couplings' mean part is that of the returned state"}
 
 
 SPEC = SolverSpec(
@@ -252,9 +397,10 @@ SPEC = SolverSpec(
     run=run,
     capabilities=Capabilities(fields=True, dense=True, sparse=True, operator=True, stochastic=True,
                               assumptions=(ASSUMPTION,
-                                           "no fields (else one extra spin absorbs them, without guarantee)")),
-    summary="IAMP driven by the zero-temperature Parisi solution, then single-flip clean-up",
-    options=OPTIONS,
+                                           "fields independent of the couplings (they enter through the Parisi "
+                                           "formula with their law)")),
+    summary="IAMP driven by the zero-temperature Parisi solution, greedy clean-up, then low-temperature re-annealing",
+    options=IampOptions,
     fit=fit,
     advise=advise,
     predict=predict,

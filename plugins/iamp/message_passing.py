@@ -43,6 +43,8 @@ def raw_matvec(K: Any, kind: str, dtype: Any = np.float64) -> Matvec:
     in its own precision.
     """
     if kind == "operator":
+        if hasattr(K, "matvec_as"):  # row blocks held elsewhere compute in the working precision too
+            return lambda x: K.matvec_as(x, dtype)
         return lambda x: np.asarray(K.matvec(x), dtype=np.float64).reshape(-1)
     if kind == "sparse":
         csr = K.tocsr().astype(dtype)
@@ -109,11 +111,37 @@ def _project_out(z: np.ndarray, recent: list[np.ndarray]) -> np.ndarray:
     return z
 
 
+def find_root(matvec: Matvec, fields: np.ndarray, grid: np.ndarray, d1: np.ndarray, d2: np.ndarray,
+              iterations: int, should_stop: Callable[[], bool] = lambda: False) -> tuple[np.ndarray, np.ndarray, float]:
+    """Phase 1 with fields: AMP to the fixed point of m = ∂_xΦ(t₁, h + z), z = A m − b m_prev.
+
+    ``d1``, ``d2`` are ∂_xΦ(t₁, ·), ∂_xxΦ(t₁, ·) on ``grid``; b = ⟨∂_xxΦ(t₁, x)⟩ is the Onsager term.
+    By state evolution z tends to N(0, q) with q = E ∂_xΦ(t₁, h + √q Z)², geometrically when
+    E[∂_xxΦ(t₁, X)²] < 1, which holds below the start q_min of the Parisi γ's support (at q_min it
+    is 1: El Alaoui, Montanari & Sellke, arXiv:2001.00904, the first phase).  Returns (x, m, the
+    last RMS change of m).
+    """
+    x = np.asarray(fields, dtype=np.float64).copy()
+    m = np.interp(x, grid, d1)
+    m_prev = np.zeros_like(m)
+    change = math.inf
+    for _ in range(iterations):
+        onsager = float(np.interp(x, grid, d2).mean())
+        x = fields + matvec(m) - onsager * m_prev
+        m_prev, m = m, np.interp(x, grid, d1)
+        change = float(np.sqrt(np.mean((m - m_prev) ** 2)))
+        if should_stop():
+            break
+    return x, m, change
+
+
 def iamp(matvec: Matvec, n: int, tables: ParisiTables, rng: np.random.Generator, *,
-         project: int = 2, should_stop: Callable[[], bool] = lambda: False) -> IampResult:
+         project: int = 2, should_stop: Callable[[], bool] = lambda: False,
+         start: tuple[np.ndarray, np.ndarray] | None = None) -> IampResult:
     """Run IAMP on the normalised A (see the module docstring); returns the magnetisation m.
 
     ``project`` is how many of the latest inputs f each z is made orthogonal to (0 = plain).
+    ``start`` = (x, m) at the tables' first time (phase 1 with fields, :func:`find_root`); else 0.
     Outside the tables' x-range the end values are used (∂_xΦ → ±1, ∂_xxΦ → 0 there).
     The elementwise part of a step (table lookups, m, x and w) is one fused numba loop.
     """
@@ -125,8 +153,8 @@ def iamp(matvec: Matvec, n: int, tables: ParisiTables, rng: np.random.Generator,
     f = rng.choice([-1.0, 1.0], size=n) * math.sqrt(dts[0])
     f_prev = np.zeros(n)
     onsager = 0.0
-    x = np.zeros(n)
-    m = np.zeros(n)
+    x = np.zeros(n) if start is None else np.array(start[0], dtype=np.float64)
+    m = np.zeros(n) if start is None else np.array(start[1], dtype=np.float64)
     w = np.empty(n)
     recent = [f]
     in_matvec = 0.0

@@ -6,6 +6,14 @@ maximised; the ground-state energy per spin H/n tends to
     P* = inf_γ  Φ_γ(0, 0) − ½ ∫₀¹ t γ(t) dt,
     ∂_tΦ + ½(∂_xxΦ + γ(t)(∂_xΦ)²) = 0,   Φ(1, x) = |x|.
 
+With external fields hᵢ, H(σ) + Σᵢ hᵢσᵢ, whose values follow a law μ (i.i.d., independent of J),
+only the starting point of the process changes (the zero-temperature Parisi formula of
+docs/references.md covers an external field): P*(μ) = inf_γ E_{H∼μ} Φ_γ(0, H) − ½∫₀¹ tγ(t) dt.  Φ itself
+does not depend on μ; μ enters the value (E over the field law) and the forward law of X (X₀ ∼ μ),
+so every routine below takes an optional ``start``: the grid weights of X₀ (a point mass at 0
+without fields; :func:`field_law` bins a sample of fields onto the grid).  With fields the optimal
+γ vanishes on a longer first segment [0, q_min), q_min > 0.
+
 γ is piecewise constant with k non-zero levels: γ = 0 on [0, q₀) (the zero segment that the
 zero-temperature problem needs), γ = m_j on [q_{j−1}, q_j) for j = 1..k, with q_k = 1.  On each
 level Φ follows from the Hopf–Cole map Φ(s, x) = m⁻¹ log E exp(mΦ(t, x + √(t−s) Z)); the top level
@@ -168,12 +176,32 @@ def backward(q: np.ndarray, m: np.ndarray, x: np.ndarray) -> list[np.ndarray]:
     return phis
 
 
-def forward(q: np.ndarray, m: np.ndarray, x: np.ndarray, phis: list[np.ndarray]) -> list[np.ndarray]:
-    """Grid weights of X at the start of every level, X_0 = 0, under the tilted (Doob) transitions."""
-    gam, _, d = _levels(q, m)
-    h = float(x[1] - x[0])
+def point_mass(x: np.ndarray) -> np.ndarray:
+    """Grid weights of X₀ = 0 (no fields)."""
     p = np.zeros_like(x)
     p[x.size // 2] = 1.0
+    return p
+
+
+def field_law(fields: np.ndarray, x: np.ndarray) -> np.ndarray:
+    """Grid weights of X₀ for a sample of fields: each value split linearly between its two grid nodes.
+
+    E Φ(0, H) is then the same split of Φ(0, ·), exact for Φ linear between nodes (error ≤ h²/8·max ∂_xxΦ).
+    """
+    h = float(x[1] - x[0])
+    pos = np.clip((np.asarray(fields, dtype=np.float64).ravel() - x[0]) / h, 0.0, x.size - 1 - 1e-9)
+    k = pos.astype(np.int64)
+    frac = pos - k
+    p = np.bincount(k, weights=1.0 - frac, minlength=x.size) + np.bincount(k + 1, weights=frac, minlength=x.size)
+    return p[: x.size] / max(float(p.sum()), 1e-300)
+
+
+def forward(q: np.ndarray, m: np.ndarray, x: np.ndarray, phis: list[np.ndarray],
+            start: np.ndarray | None = None) -> list[np.ndarray]:
+    """Grid weights of X at the start of every level, X₀ ∼ ``start`` (default 0), under the tilted (Doob) transitions."""
+    gam, _, d = _levels(q, m)
+    h = float(x[1] - x[0])
+    p = point_mass(x) if start is None else start
     out = [p]
     for j in range(m.size):
         if d[j] > 0:
@@ -190,18 +218,20 @@ def forward(q: np.ndarray, m: np.ndarray, x: np.ndarray, phis: list[np.ndarray])
     return out
 
 
-def evaluate(q: np.ndarray, m: np.ndarray, x: np.ndarray, grad: bool = False) -> tuple[float, np.ndarray | None, np.ndarray | None]:
-    """P(γ) = Φ(0,0) − ½∫tγ and, if asked, its gradient with respect to ``q`` and ``m``."""
+def evaluate(q: np.ndarray, m: np.ndarray, x: np.ndarray, grad: bool = False, start: np.ndarray | None = None
+             ) -> tuple[float, np.ndarray | None, np.ndarray | None]:
+    """P(γ) = E Φ(0, X₀) − ½∫tγ (X₀ ∼ ``start``, default 0) and, if asked, its gradient in ``q`` and ``m``."""
     q = np.asarray(q, dtype=np.float64)
     m = np.asarray(m, dtype=np.float64)
     gam, starts, d = _levels(q, m)
     ends = starts + d
     phis = backward(q, m, x)
     penalty = 0.25 * float(np.sum(gam * (ends**2 - starts**2)))
-    value = float(phis[0][x.size // 2]) - penalty
+    head = float(phis[0][x.size // 2]) if start is None else float(start @ phis[0])
+    value = head - penalty
     if not grad:
         return value, None, None
-    ps = forward(q, m, x, phis)
+    ps = forward(q, m, x, phis, start)
     k = m.size
     gm = np.empty(k)
     for j in range(1, k):
@@ -246,14 +276,14 @@ def _level_scale(q: np.ndarray) -> np.ndarray:
 
 
 def optimise_levels(q: np.ndarray, x: np.ndarray, m0: np.ndarray | None = None,
-                    max_evals: int = 2000) -> tuple[np.ndarray, float, int]:
+                    max_evals: int = 2000, start: np.ndarray | None = None) -> tuple[np.ndarray, float, int]:
     """Minimise over the levels with the breakpoints fixed: a convex problem (P is convex in γ)."""
     from scipy.optimize import minimize
 
     scale = _level_scale(q)
 
     def objective(y: np.ndarray) -> tuple[float, np.ndarray]:
-        value, _, gm = evaluate(q, y * scale, x, grad=True)
+        value, _, gm = evaluate(q, y * scale, x, grad=True, start=start)
         return value, gm * scale
 
     y0 = np.ones(q.size) if m0 is None else m0 / scale
@@ -269,7 +299,8 @@ def _unpack(z: np.ndarray, k: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     return np.cumsum(e)[:k], np.exp(z[k + 1:]), e
 
 
-def optimise_joint(q: np.ndarray, m: np.ndarray, x: np.ndarray, max_evals: int) -> tuple[np.ndarray, np.ndarray, float, int]:
+def optimise_joint(q: np.ndarray, m: np.ndarray, x: np.ndarray, max_evals: int,
+                   start: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray, float, int]:
     """Minimise over breakpoints and levels together (log-lengths and log-levels, so scale-free)."""
     from scipy.optimize import minimize
 
@@ -277,7 +308,7 @@ def optimise_joint(q: np.ndarray, m: np.ndarray, x: np.ndarray, max_evals: int) 
 
     def objective(z: np.ndarray) -> tuple[float, np.ndarray]:
         qq, mm, e = _unpack(z, k)
-        value, gq, gm = evaluate(qq, mm, x, grad=True)
+        value, gq, gm = evaluate(qq, mm, x, grad=True, start=start)
         assert gq is not None and gm is not None  # grad=True returns both gradients
         tail = np.concatenate([np.cumsum(gq[::-1])[::-1], [0.0]])  # ∂P/∂(length i) through all later q
         return value, np.concatenate([e * tail - e * float(gq @ qq), gm * mm])
@@ -289,27 +320,31 @@ def optimise_joint(q: np.ndarray, m: np.ndarray, x: np.ndarray, max_evals: int) 
     return qq, mm, float(res.fun), int(res.nfev)
 
 
-def solve_k(k: int, *, joint: bool = True, max_evals: int = 150, x: np.ndarray | None = None) -> ParisiSolution:
+def solve_k(k: int, *, joint: bool = True, max_evals: int = 150, x: np.ndarray | None = None,
+            start: np.ndarray | None = None, q0: float | None = None) -> ParisiSolution:
     """The k-level (k-RSB) zero-temperature Parisi solution; k = 0 is the replica-symmetric √(2/π).
 
     Breakpoints start from :func:`profile_breakpoints` (q₀ guessed as 0.48/√k from the
-    1-step solution), levels are optimised with them fixed (convex), then, if ``joint`` and
-    k ≤ JOINT_MAX_K, both are refined together.  Beyond that the joint refinement costs
-    seconds for a gain below 1e-7, because the profile breakpoints are already near optimal.
+    1-step solution, or ``q0`` when given), levels are optimised with them fixed (convex), then,
+    if ``joint`` and k ≤ JOINT_MAX_K, both are refined together.  Beyond that the joint refinement
+    costs seconds for a gain below 1e-7, because the profile breakpoints are already near optimal.
+    ``start`` is the grid law of X₀ (fields; default a point mass at 0).
     """
-    start = time.perf_counter()
+    t0 = time.perf_counter()
     x = x_grid() if x is None else x
     if k == 0:
-        value = evaluate(np.empty(0), np.empty(0), x)[0]
-        return ParisiSolution(np.empty(0), np.empty(0), value, time.perf_counter() - start, 1)
-    q = profile_breakpoints(k, 0.48 / math.sqrt(k) if k <= JOINT_MAX_K else 0.48 / k)
-    m, value, evals = optimise_levels(q, x)
+        value = evaluate(np.empty(0), np.empty(0), x, start=start)[0]
+        return ParisiSolution(np.empty(0), np.empty(0), value, time.perf_counter() - t0, 1)
+    if q0 is None:
+        q0 = 0.48 / math.sqrt(k) if k <= JOINT_MAX_K else 0.48 / k
+    q = profile_breakpoints(k, q0)
+    m, value, evals = optimise_levels(q, x, start=start)
     if joint and k <= JOINT_MAX_K:
-        q2, m2, v2, e2 = optimise_joint(q, m, x, max_evals)
+        q2, m2, v2, e2 = optimise_joint(q, m, x, max_evals, start=start)
         evals += e2
         if v2 < value and np.all(np.diff(q2) > 0):
             q, m, value = q2, m2, v2
-    return ParisiSolution(q, m, value, time.perf_counter() - start, evals)
+    return ParisiSolution(q, m, value, time.perf_counter() - t0, evals)
 
 
 def full_rsb(k: int = 25, coarse: ParisiSolution | None = None, fine: ParisiSolution | None = None,

@@ -199,7 +199,7 @@ def option_calls() -> list[ApiCase]:
         a("option-hyperplanes-zero", lambda: _with("sdp", hyperplanes=0), err(IE, "sdp: option 'hyperplanes' = 0")),
         a("option-rank-zero", lambda: _with("sdp", rank=0), err(IE, "sdp: option 'rank' = 0")),
         a("option-tol-negative", lambda: _with("sdp", tol=-1.0), err(IE, "sdp: option 'tol' = -1.0")),
-        a("option-delta-large", lambda: _with("iamp", delta=5.0), err(IE, "option 'delta' must be a number in [1e-4, 0.5]")),
+        a("option-delta-large", lambda: _with("iamp", delta=5.0), err(IE, "option 'delta' = 5.0 is invalid: input should be less than or equal to 0.5")),
         a("option-max-width-negative", lambda: _with("treedp", max_width=-1), err(IE, "treedp: option 'max_width' = -1")),
         a("option-max-levels-huge", lambda: _with("mincut", max_levels=10**30), err(IE, "mincut: option 'max_levels'")),
         a("bound-share-five", lambda: _with(bound_share=5), err(IE, "option 'bound_share' = 5 is invalid")),
