@@ -48,7 +48,7 @@ from spinward.core import CanonicalProblem, Capabilities, InputError, Solution, 
 from spinward.core.canonical import row_blocks
 from spinward.core.options import SolverOptions
 from spinward.core.statistics import CouplingStats
-from spinward.core.statistics import _from_sums as from_power_sums  # the core's one moment formula
+from spinward.core.statistics import from_power_sums  # the core's one moment formula
 
 from . import diagnostics as diag
 from .fields import ROOT_ITERATIONS, energy_per_spin, field_tables
