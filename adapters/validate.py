@@ -7,13 +7,13 @@ names the defect and the fix.
 from __future__ import annotations
 
 import math
-import os
 from typing import Any, Hashable, Iterable, Sequence
 
 import numpy as np
 
 from spinward.core.canonical import ROW_BLOCK, is_sparse
 from spinward.core.errors import InputError, ResourceError
+from spinward.core.resources import memory_limit
 
 #: largest integer magnitude a float64 holds exactly
 EXACT_INT = 2**53
@@ -252,18 +252,6 @@ def labels_for(n: int, labels: Iterable[Hashable] | None, name: str) -> tuple[Ha
     return out
 
 
-def available_memory() -> int:
-    """Bytes of memory available now (MemAvailable), or a large number if unknown."""
-    try:
-        with open("/proc/meminfo", encoding="ascii") as fh:
-            for line in fh:
-                if line.startswith("MemAvailable:"):
-                    return int(line.split()[1]) * 1024
-    except OSError:
-        pass
-    return 1 << 62
-
-
 #: bytes per n² entry that a dense solve allocates beyond the caller's matrix, and a fixed part.
 #: Measured (extra peak RSS, VmHWM, of spinward.solve on a dense float64 QUBO, fresh process):
 #: n = 4000: 296 MB ("auto" and "iamp"), 314 MB ("sdp"), 270 MB ("anneal", "tabu"); n = 8000:
@@ -276,15 +264,6 @@ DENSE_SOLVE_FIXED_BYTES = 32 << 20
 def dense_solve_estimate(n: int) -> int:
     """Bytes a dense solve of n spins allocates beyond the caller's input (see DENSE_SOLVE_BYTES_PER_ENTRY)."""
     return DENSE_SOLVE_BYTES_PER_ENTRY * n * n + DENSE_SOLVE_FIXED_BYTES
-
-
-def memory_limit() -> int:
-    """Bytes the dense paths may assume are free: SPINWARD_MEMORY_LIMIT, else 80% of MemAvailable."""
-    raw = os.environ.get("SPINWARD_MEMORY_LIMIT", "")
-    try:
-        return int(raw) if raw else int(0.8 * available_memory())
-    except ValueError:
-        raise InputError(f"SPINWARD_MEMORY_LIMIT must be an integer number of bytes, got {raw!r}") from None
 
 
 def check_dense_memory(n: int, copies: int | None = None, itemsize: int = 8,

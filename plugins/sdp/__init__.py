@@ -10,9 +10,11 @@ from __future__ import annotations
 
 from typing import Any, Literal
 
+import numpy as np
 from pydantic import Field
 
 from spinward.core.options import SolverOptions
+from spinward.core.resources import memory_limit
 from spinward.core import (Bound, BoundSpec, Capabilities, CanonicalProblem, Solution, SolveContext, SolverSpec,
                            hookimpl)
 
@@ -109,11 +111,26 @@ def _explicit(problem: CanonicalProblem) -> bool | str:
     return True if problem.kind != "operator" else "it needs explicit couplings, not a LinearOperator"
 
 
+def _float64_fits(problem: CanonicalProblem) -> bool | str:
+    """The SDP keeps K in float64 (and float32 from 1500 spins): refuse a dense K whose copies would not fit."""
+    verdict = _explicit(problem)
+    if verdict is not True or problem.kind != "dense":
+        return verdict
+    K = problem.K
+    need = (0 if isinstance(K, np.ndarray) and K.dtype == np.float64 and not isinstance(K, np.memmap)
+            else 8 * problem.n ** 2) + 4 * problem.n ** 2
+    limit = memory_limit()
+    if need > limit:
+        return (f"the SDP needs float64 and float32 copies of the dense K ({need / 2**30:.1f} GiB), more than the "
+                f"{limit / 2**30:.1f} GiB available")
+    return True
+
+
 BOUNDS = [
     BoundSpec("spectral", _spectral, summary="largest eigenvalue of the ghost-spin lift, Delorme–Poljak shifted",
               check=_explicit, priority=20, cost=_spectral_cost),
     BoundSpec("sdp-dual", _dual, summary="SDP dual bound from the Burer–Monteiro factor, Cholesky-verified",
-              check=_explicit, priority=10, cost=_dual_cost),
+              check=_float64_fits, priority=10, cost=_dual_cost),
 ]
 
 

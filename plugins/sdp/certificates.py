@@ -127,8 +127,33 @@ def bound_value(y: np.ndarray, lam: float, k0: float) -> float:
 
 
 def _couplings(lifted: CanonicalProblem) -> Any:
-    """K' in the form the estimators want: dense float64 or sparse CSR."""
-    return lifted.csr_K() if lifted.kind == "sparse" else dense_couplings(lifted)
+    """K' in the form the estimators want: sparse CSR, dense float64, or (a large dense K held as
+    float32 or a memmap, beyond the Cholesky limit, where only an iterative estimate is possible)
+    K' itself streamed in row blocks, so no float64 copy of it is ever made."""
+    if lifted.kind == "sparse":
+        return lifted.csr_K()
+    K = lifted.K
+    copy_free = isinstance(K, np.ndarray) and K.dtype == np.float64 and K.flags.c_contiguous
+    if not copy_free and lifted.n > DENSE_LIMIT:
+        return Streamed(lifted)
+    return dense_couplings(lifted)
+
+
+class Streamed:
+    """A dense K' read in row blocks on every product (no copy): ``K @ x``, ``K @ X``, a zero diagonal."""
+
+    def __init__(self, problem: CanonicalProblem) -> None:
+        self.problem = problem
+        self.shape = (problem.n, problem.n)
+
+    def __matmul__(self, x: np.ndarray) -> np.ndarray:
+        x = np.asarray(x, dtype=np.float64)
+        if x.ndim == 1:
+            return self.problem.matvec(x)
+        return np.column_stack([self.problem.matvec(x[:, j]) for j in range(x.shape[1])])
+
+    def diagonal(self) -> np.ndarray:
+        return np.zeros(self.problem.n)  # the canonical form's diagonal is zero by construction
 
 
 def _off_diagonal(K: Any) -> tuple[Any, float]:
