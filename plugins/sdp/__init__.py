@@ -78,6 +78,7 @@ SPEC = SolverSpec(
     capabilities=Capabilities(fields=True, operator=False),
     summary="SDP relaxation by Burer–Monteiro (mixing method), Goemans–Williamson rounding + single flips",
     options=SdpOptions,
+    check=lambda problem: _float64_fits(problem),
     fit=fit,
     cost=cost,
 )
