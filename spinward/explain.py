@@ -76,7 +76,8 @@ def _part_line(part: Part, several: bool, time_limit: float | None) -> str:
     if len(names) > 1 and part.candidates[0].capabilities.exact:
         text += f" (if it declines: {', '.join(names[1:3])})"
     if part.improver is not None and not part.candidates[0].capabilities.exact:
-        share = f"{100 * IMPROVER_SHARE:.0f}% of the part's time" if time_limit is not None else "its default work"
+        share = ("the time the primary leaves" if not IMPROVER_SHARE else f"{100 * IMPROVER_SHARE:.0f}% of the part's "
+                 f"time") if time_limit is not None else "its default work"
         text += f", then {part.improver.name} improves the state ({share})"
     return text
 
