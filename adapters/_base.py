@@ -22,33 +22,38 @@ def build_canonical(P: Any, linear: np.ndarray, constant: float, *, sign: float,
     P is symmetric with zero diagonal.  All coefficients are divided by one exact
     power of two when their magnitudes are extreme; ``scale`` carries it back.
     """
-    big = _max_abs(P)
+    big, mass = _max_abs_and_mass(P)
     lin_big = float(np.abs(linear).max()) if linear.size else 0.0
-    check_total(_mass(P) + float(np.abs(linear).sum()) + abs(constant) + abs(shift), f"the {form} coefficients")
+    check_total(mass + float(np.abs(linear).sum()) + abs(constant) + abs(shift), f"the {form} coefficients")
     t = power_of_two_scale(big, lin_big, constant)
     if t != 1.0:
         P = P / t
         linear = linear / t
         constant = constant / t
+    # The pass above already read max|K| and Σ|K|: a big dense K (a memmap, say) costs a
+    # tenth of a second or more per read, so the canonical problem keeps both (t is a power
+    # of two: dividing is exact).
+    meta: dict[Any, Any] = {"_max_abs": big / t}
+    if not hasattr(P, "abs_sum"):
+        meta["_abs_mass"] = mass / t / 2
+    if t != 1.0:
+        meta["rescaled_by"] = t
     return CanonicalProblem(K=P, b=np.asarray(linear, dtype=np.float64), k0=float(constant), labels=labels,
-                            scale=sign * t, shift=float(shift), sense=sense, form=form,
-                            meta={"rescaled_by": t} if t != 1.0 else {})
+                            scale=sign * t, shift=float(shift), sense=sense, form=form, meta=meta)
 
 
-def _max_abs(P: Any) -> float:
+def _max_abs_and_mass(P: Any) -> tuple[float, float]:
+    """(max |P_ij|, Σ |P_ij|) in one read of P."""
     if hasattr(P, "abs_sum"):  # couplings held elsewhere in row blocks (adapters/distributed.py)
-        return float(P.max_abs())
+        return float(P.max_abs()), float(P.abs_sum())
     if is_sparse(P):
-        return float(abs(P).max()) if P.nnz else 0.0
-    return max((float(np.abs(block).max()) for block in _row_blocks(P) if block.size), default=0.0)
-
-
-def _mass(P: Any) -> float:
-    if hasattr(P, "abs_sum"):
-        return float(P.abs_sum())
-    if is_sparse(P):
-        return float(abs(P).sum())
-    return sum(float(np.abs(block).sum(dtype=np.float64)) for block in _row_blocks(P))
+        return (float(abs(P).max()) if P.nnz else 0.0), float(abs(P).sum())
+    big, mass = 0.0, 0.0
+    for block in _row_blocks(P):
+        if block.size:
+            a = np.abs(block)
+            big, mass = max(big, float(a.max())), mass + float(a.sum(dtype=np.float64))
+    return big, mass
 
 
 def _row_blocks(P: np.ndarray) -> Any:

@@ -20,6 +20,8 @@ from .errors import InputError
 
 Sense = Literal["min", "max"]
 ROW_BLOCK = 512  # rows per block when streaming a float32 or memory-mapped K
+VALUE_MEMO_ENTRIES = 1 << 24  # a dense K with more entries remembers recent states' values
+VALUE_MEMO_SIZE = 16
 MATVEC_BLOCK_ENTRIES = 1 << 19  # entries per block of dense_matvec (a 4 MiB float64 temporary)
 
 
@@ -155,9 +157,30 @@ class CanonicalProblem:
         return self.matvec(np.asarray(sigma, dtype=np.float64)) + self.b
 
     def value(self, sigma: np.ndarray) -> float:
-        """C(σ) in canonical units."""
+        """C(σ) in canonical units.
+
+        On a big dense K (one read of it takes a tenth of a second or more), the values of the
+        last few ±1 states are remembered: the run path asks for the same state's value several
+        times (the step's record, the parts' totals, the result).
+        """
         s = np.asarray(sigma, dtype=np.float64)
-        return float(0.5 * s @ self.matvec(s) + self.b @ s + self.k0)
+        key = None
+        if self.kind == "dense" and self.n * self.n > VALUE_MEMO_ENTRIES and np.all(np.abs(s) == 1):
+            key = np.packbits(s > 0).tobytes()
+            memo = self.meta.setdefault("_values", {})
+            if key in memo:
+                return memo[key]
+        value = float(0.5 * s @ self.matvec(s) + self.b @ s + self.k0)
+        if key is not None:
+            if len(memo) >= VALUE_MEMO_SIZE:
+                memo.pop(next(iter(memo)))
+            memo[key] = value
+        return value
+
+    def value_from_fields(self, sigma: np.ndarray, h: np.ndarray) -> float:
+        """C(σ) from known local fields h = Kσ + b: ½σᵀh + ½bᵀσ + k₀ (no pass over K)."""
+        s = np.asarray(sigma, dtype=np.float64)
+        return float(0.5 * s @ h + 0.5 * self.b @ s + self.k0)
 
     def to_objective(self, canonical_value: float) -> float:
         """The caller's objective for a canonical value."""

@@ -46,6 +46,7 @@ LAST_RESORT_SECONDS = 0.03
 RESERVE_PER_ENTRY = 4e-9
 RESERVE_PER_SPIN = 6e-7
 RESERVE_FLOOR = 0.01
+RESERVE_READS = 2.0
 
 
 @dataclass
@@ -104,9 +105,14 @@ def stored_entries(problem: CanonicalProblem) -> int:
     return problem.n * problem.n
 
 
-def reserve_seconds(problem: CanonicalProblem) -> float:
-    """Time kept for the mapping back: decoding, the caller's objective, the consistency check."""
-    return RESERVE_FLOOR + RESERVE_PER_ENTRY * stored_entries(problem) + RESERVE_PER_SPIN * problem.n
+def reserve_seconds(problem: CanonicalProblem, read_seconds: float | None = None) -> float:
+    """Time kept for the mapping back: decoding, the caller's objective, the consistency check.
+
+    Before the profile, from the stored entries at a conservative rate; once the profile has
+    timed one read of a dense K (``read_seconds``), two such reads.
+    """
+    per_entry = RESERVE_PER_ENTRY * stored_entries(problem) if read_seconds is None else RESERVE_READS * read_seconds
+    return RESERVE_FLOOR + per_entry + RESERVE_PER_SPIN * problem.n
 
 
 def part_share(parts: list[Part], k: int, seconds: float) -> float:

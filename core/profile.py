@@ -21,7 +21,7 @@ from typing import Any
 
 import numpy as np
 
-from .canonical import CanonicalProblem
+from .canonical import CanonicalProblem, dense_matvec
 from .spectrum import lanczos_ritz
 from .statistics import FULL_PASS_ENTRIES, CouplingStats, coupling_stats
 
@@ -32,6 +32,7 @@ SPECTRAL_SUBSET = 1500
 SAMPLE = 20_000            # entries sampled for the frustration pre-check
 READ_RATE = 2e8            # coupling entries a budgeted profile assumes it can read per second
 MIN_SAMPLE_ENTRIES = 1 << 18
+READ_PROBE_ENTRIES = 1 << 22  # entries of K multiplied to time one read of it
 STRUCTURE_SECONDS = 4e-7   # per coupling, the components-and-balance pass (generous: a loaded machine)
 
 
@@ -59,6 +60,7 @@ class Profile:
     top_eigenvalues: tuple[float, ...] = ()   # of A (dense inputs only)
     mean_outlier: float = 0.0    # m√n/s: the rank-one part's eigenvalue on the A scale
     stats_exact: bool = True     # False: the moments come from a sample of rows
+    read_seconds: float = 0.0    # one full read of K (a matvec), timed on the statistics' pass
     seconds: float = 0.0
     notes: tuple[str, ...] = field(default_factory=tuple)
 
@@ -94,6 +96,7 @@ def _compute(problem: CanonicalProblem, budget: float | None) -> Profile:
                                                                                          budget * READ_RATE)))
     stats = coupling_stats(problem, max_entries=entries)
     assert stats is not None
+    read_seconds = _read_seconds(problem, stats)
     fast = _dense_structure(problem) if problem.kind == "dense" and n > 64 else None
     if fast is not None:
         components, frustration_free, ferromagnetic = fast
@@ -118,7 +121,20 @@ def _compute(problem: CanonicalProblem, budget: float | None) -> Profile:
                    frustration_free=frustration_free, degeneracy=degeneracy, treewidth=treewidth,
                    has_fields=problem.has_fields, field_ratio=_field_ratio(problem, stats),
                    top_eigenvalues=spectral.get("top", ()), mean_outlier=spectral.get("outlier", 0.0),
-                   stats_exact=stats.exact, seconds=time.perf_counter() - t0)
+                   stats_exact=stats.exact, read_seconds=read_seconds, seconds=time.perf_counter() - t0)
+
+
+def _read_seconds(problem: CanonicalProblem, stats: Any) -> float:
+    """Seconds for one full read of K (a matvec): a dense K's leading rows (about ``READ_PROBE_ENTRIES``
+    entries) multiplied as a solver would, the time scaled to all rows; a CSR K from its size."""
+    if problem.kind != "dense":
+        return (problem.n + 2 * stats.couplings) / (10 * READ_RATE)  # values and indices, in memory
+    if problem.n == 0:
+        return 0.0
+    rows = max(1, min(problem.n, READ_PROBE_ENTRIES // problem.n))
+    t0 = time.perf_counter()
+    dense_matvec(problem.K[:rows], np.ones(problem.n))
+    return (time.perf_counter() - t0) * problem.n / rows
 
 
 def _upper_entries(problem: CanonicalProblem) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

@@ -103,6 +103,13 @@ class SolverSpec:
       entries (a source, a note) are kept as they are;
     - ``cost(problem)``: predicted seconds of a run without a time limit (deterministic; used to
       size the bounds' share).
+
+    ``first_reads`` is how many full reads of K the solver needs before it holds a first state
+    (fields, a sweep, the closing climb).  Under a time limit, the runner skips it when its
+    budget holds fewer reads than that, as the profile timed them: on a big memory-mapped K a
+    read takes a third of a second, and a solver started anyway could not stop in time.  A
+    solver whose first state costs more than reads (products with a wide factor, say) gives
+    ``first_seconds(problem, read_seconds)`` instead.
     """
 
     name: str
@@ -115,6 +122,8 @@ class SolverSpec:
     advise: AdviseFn | None = None
     predict: PredictFn | None = None
     cost: CostFn | None = None
+    first_reads: float = 3.0
+    first_seconds: Callable[[CanonicalProblem, float], float] | None = None
 
     def __post_init__(self) -> None:
         if not isinstance(self.name, str) or not _NAME.fullmatch(self.name):

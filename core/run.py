@@ -20,9 +20,9 @@ from .canonical import CanonicalProblem, drop_ghost_spin
 from .context import SolveContext
 from .decompose import connected_components, subproblem
 from .dispatch import rank
-from .errors import InternalError, SolverUnsuitableError, SpinwardError
+from .errors import InternalError, SolverUnsuitableError, SpinwardError, SpinwardWarning
 from .plan import (LAST_RESORT_SECONDS, MAX_PARTS, MIN_STEP_SECONDS, SMALL_PART, WHOLE_SHARE, Part, Step,
-                   free_bound_allowance, improver_share, part_share)
+                   free_bound_allowance, improver_share, part_share, reserve_seconds)
 from .profile import Profile, profile_of
 from .registry import Bound, BoundSpec, Registry, Solution, SolverSpec
 
@@ -36,13 +36,15 @@ class Runner:
         self.bound, self.bound_share, self.reserve = bound, bound_share, reserve
         self.steps: list[Step] = []
         self.limit = ctx.time_limit
+        self.read_seconds = 0.0  # one full read of the whole K, as the profile timed it
+        self.bounds_fit = True   # whether some bound provider's predicted cost fits the bounds' share
 
     # ---------------------------------------------------------------- time
     def left(self) -> float:
         return self.ctx.remaining()
 
     def bound_time(self) -> float:
-        return self.bound_share * self.limit if (self.bound and self.limit is not None) else 0.0
+        return self.bound_share * self.limit if (self.bound and self.limit is not None and self.bounds_fit) else 0.0
 
     def solve_time_left(self) -> float:
         """Seconds the parts may still use (inf without a limit)."""
@@ -54,6 +56,11 @@ class Runner:
     def parts(self, method: SolverSpec | None, profile: Profile, only: tuple[str, ...] | None) -> list[Part]:
         """The parts and their candidates: one part for a forced method, else the components."""
         problem = self.problem
+        self.read_seconds = profile.read_seconds
+        if problem.kind == "dense":  # the mapping back reads K once for the caller's objective: as timed here
+            self.reserve = reserve_seconds(problem, profile.read_seconds)
+        if self.bound and self.limit is not None:  # no provider fits: its share goes to the solvers
+            self.bounds_fit = self._some_bound_fits(self.bound_share * self.limit)
         if method is not None:
             verdict = method.can_run(problem)
             if verdict is not True:
@@ -74,6 +81,13 @@ class Runner:
             improver = None if ranking.primary.capabilities.warm_start else ranking.improver
             out.append(Part(k, idx, sub, list(ranking.ranked), improver, ranking))
         return out
+
+    def _some_bound_fits(self, seconds: float) -> bool:
+        for provider in self.registry.bounds():
+            if provider.applies(self.problem) is True and \
+                    (provider.cost(self.problem) if provider.cost is not None else 0.0) <= seconds:
+                return True
+        return False
 
     def _pieces(self, profile: Profile) -> list[np.ndarray]:
         """Components, largest first up to ``MAX_PARTS``; small ones (≤ ``SMALL_PART`` spins) and the
@@ -134,11 +148,20 @@ class Runner:
             # no time for any candidate: keep the start, else all spins up (the status says time-limit)
             part.sigma = np.ones(part.problem.n, dtype=np.int8) if initial is None else np.asarray(initial, np.int8)
             part.solver = part.solver or part.candidates[0].name
+            if not self.ctx.interrupted:
+                self._warn_unsolved(part, initial is not None, mine)
         if part.improver is not None and not part.exact and not self.ctx.interrupted:
             budget = None if end is None else max(end - time.perf_counter(), 0.0)
             better = self.step("improve", part.improver, part, embed, part.sigma, budget)
             if better is not None and part.problem.value(better.sigma) > part.problem.value(part.sigma):
                 part.sigma = better.sigma
+
+    def _warn_unsolved(self, part: Part, started: bool, steps: list[Step]) -> None:
+        where = "" if len(part.idx) == self.problem.n else f" on a part of {len(part.idx)} variables"
+        why = next((s.note for s in steps if s.outcome == "skipped" and s.note), "")
+        self.ctx.warn(f"the time limit left no time for any solver{where}, so the state returned there is "
+                      f"{'the start given' if started else 'all spins +1'}, not a solution"
+                      f"{f' ({steps[0].name}: {why})' if why else ''}; allow more time", SpinwardWarning)
 
     def step(self, kind: str, spec: SolverSpec, part: Part, embed: Any, initial: np.ndarray | None,
              budget: float | None) -> Solution | None:
@@ -151,6 +174,17 @@ class Runner:
         if budget is not None and budget < MIN_STEP_SECONDS:
             entry.outcome, entry.note = "skipped", f"only {budget:.3f} s were left for it"
             return None
+        if budget is not None:
+            read = self._read_seconds(part.problem)
+            needed = spec.first_reads * read if spec.first_seconds is None else spec.first_seconds(part.problem, read)
+            if needed > budget:
+                entry.outcome = "skipped"
+                entry.note = (f"its first state needs about {needed:.2g} s here, more than the {budget:.2g} s "
+                              f"left for it")
+                return None
+            # a solver stopped by the clock still closes (its climb, its state's value): reads of K
+            # that take a third of a second each on a big memory-mapped K come out of its budget
+            budget -= min(CLOSE_READS * read, budget / 2)
         options = dict(part.options.get(spec.name, {}))
         if initial is not None and spec.capabilities.warm_start:
             options["initial"] = np.asarray(initial, dtype=np.int8)
@@ -168,6 +202,11 @@ class Runner:
         entry.value = self.problem.to_objective(part.problem.value(sol.sigma)) if len(part.idx) == self.problem.n \
             else None
         return sol
+
+    def _read_seconds(self, problem: CanonicalProblem) -> float:
+        """One read of ``problem``'s K (a part: its share of the whole K's entries)."""
+        share = problem.n / max(self.problem.n, 1)
+        return self.read_seconds * (share * share if problem.kind == "dense" else share)
 
     def _warm(self, spec: SolverSpec, problem: CanonicalProblem) -> float:
         """The first run of a solver on a kind of couplings in this process loads its compiled code
@@ -257,6 +296,7 @@ class Runner:
 
 
 _WARMED: set[tuple[Any, ...]] = set()
+CLOSE_READS = 2.0  # reads of K a solver makes after the clock stops it, kept out of its budget
 
 
 def _tiny_like(problem: CanonicalProblem) -> CanonicalProblem:
@@ -276,7 +316,9 @@ class PartTotals:
     def __init__(self, problem: CanonicalProblem, parts: list[Part]) -> None:
         self.problem, self.parts = problem, parts
         self.sigma = np.ones(problem.n, dtype=np.int8)
-        self.values = [p.problem.value(np.ones(p.problem.n, dtype=np.int8)) for p in parts]
+        # one part: any offer is the whole incumbent (no read of a big K for all spins up)
+        self.values = [-math.inf] if len(parts) == 1 else \
+            [p.problem.value(np.ones(p.problem.n, dtype=np.int8)) for p in parts]
 
     def embed(self, k: int) -> Callable[[np.ndarray, float], tuple[np.ndarray, float] | None]:
         idx = self.parts[k].idx

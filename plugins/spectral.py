@@ -100,4 +100,5 @@ SPEC = SolverSpec(
     options={},
     fit=fit,
     cost=cost,
+    first_reads=5.0,  # a few Lanczos steps (it stops between them), the rounding and its climb
 )

@@ -86,11 +86,19 @@ class Plan:
         return Plan(sweeps, self.restarts, betas, self.rule, self.schedule)
 
 
+FULL_PASS_ENTRIES = 1 << 26  # a dense K with more entries takes its scale from the profile's moments
+
+
 def coupling_scale(problem: CanonicalProblem) -> float:
     """RMS over spins of √(Σⱼ Kᵢⱼ² + bᵢ²): the typical |local field| at a random state."""
+    stats = problem.meta.get("_stats_exact") or problem.meta.get("_stats")
     if problem.kind == "sparse":
         data = csr_parts(problem)[2]
         total = float(data @ data)
+    elif stats is not None and problem.n ** 2 > FULL_PASS_ENTRIES:
+        # a big dense K (a memmap, say) is not read again for a scale: the profile's moments,
+        # from a row sample under a time limit, give Σ Kᵢⱼ² = n(n−1)(s² + m²)
+        total = problem.n * (problem.n - 1) * (stats.std ** 2 + stats.mean ** 2)
     else:
         # Row by row, so a float32 or memory-mapped K is never copied whole.
         total = 0.0
@@ -152,7 +160,7 @@ class Annealer:
         """Start from ``start`` (±1) with exact local fields."""
         self.sigma[:] = start
         self.h[:] = self.problem.local_fields(self.sigma)
-        self.current = self.best = self.problem.value(self.sigma)
+        self.current = self.best = self.problem.value_from_fields(self.sigma, self.h)
         self.best_sigma[:] = self.sigma
 
     def sweep(self, betas: np.ndarray, rule: int) -> None:

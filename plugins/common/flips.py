@@ -74,6 +74,8 @@ def local_search(problem: CanonicalProblem, sigma: np.ndarray, h: np.ndarray | N
             if kernel(*args, 1) == 0 or should_stop():
                 break
     out = s.astype(np.int8)
+    if problem.kind == "dense":  # the kernel kept the fields up to date: a dense K is not read again
+        return out, problem.value_from_fields(out, fields)
     return out, problem.value(out)
 
 

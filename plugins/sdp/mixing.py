@@ -70,7 +70,7 @@ def default_rank(N: int) -> int:
 def random_factor(N: int, k: int, rng: np.random.Generator) -> np.ndarray:
     """N×k matrix with independent uniformly random unit rows."""
     V = rng.standard_normal((N, k))
-    V /= np.linalg.norm(V, axis=1, keepdims=True)
+    V /= np.sqrt(np.einsum("ij,ij->i", V, V))[:, None]  # (np.linalg.norm along rows is 3× slower)
     return V
 
 
@@ -127,7 +127,7 @@ def _sparse_sweeper(lifted: CanonicalProblem) -> Callable[[np.ndarray], float]:
 def inner_value(lifted: CanonicalProblem, V: np.ndarray) -> float:
     """⟨K', VVᵀ⟩ = Σᵢ vᵢ·(K'V)ᵢ, recomputed from scratch."""
     KV = lifted.K @ V if lifted.kind != "operator" else lifted.K.matmat(V)
-    return float(np.sum(V * np.asarray(KV)))
+    return float(np.einsum("ij,ij->", V, np.asarray(KV)))  # (no N×k temporary)
 
 
 def solve_sdp(problem: CanonicalProblem, *, rng: np.random.Generator, rank: int | None = None,

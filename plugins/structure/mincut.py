@@ -265,11 +265,32 @@ def solve_network(net: Network, ctx: SolveContext, max_levels: int) -> CutResult
     return CutResult(side[: net.n].copy(), gap_units == 0, gap, levels)
 
 
-def negative_couplings(problem: CanonicalProblem) -> tuple[int, int, bool]:
-    """(pairs i < j with K_ij < 0, non-zero pairs, whether every entry is finite)."""
-    data = problem.csr_K().data if problem.kind == "sparse" else np.asarray(problem.K)
-    finite = bool(np.all(np.isfinite(data)))
-    return int(np.count_nonzero(data < 0)) // 2, int(np.count_nonzero(data)) // 2, finite
+BLOCK_ENTRIES = 1 << 20  # entries per row block when a dense K is scanned
+
+
+def negative_couplings(problem: CanonicalProblem, *, stop_early: bool = False) -> tuple[int, int, bool]:
+    """(pairs i < j with K_ij < 0, non-zero pairs, whether every entry is finite).
+
+    A dense K is read in row blocks (no n² temporary; a memory-mapped K is read in place).
+    With ``stop_early``, the reading stops at the first block holding a negative or
+    non-finite entry, and the counts are those of the blocks read (a lower bound).
+    """
+    if problem.kind == "sparse":
+        data = problem.csr_K().data
+        return int(np.count_nonzero(data < 0)) // 2, int(np.count_nonzero(data)) // 2, \
+            bool(np.all(np.isfinite(data)))
+    K, n = problem.K, problem.n
+    rows = max(1, BLOCK_ENTRIES // max(n, 1))
+    negative = nonzero = 0
+    finite = True
+    for start in range(0, n, rows):
+        block = np.asarray(K[start:start + rows])
+        negative += int(np.count_nonzero(block < 0))
+        nonzero += int(np.count_nonzero(block))
+        finite = finite and bool(np.all(np.isfinite(block)))
+        if stop_early and (negative or not finite):
+            break
+    return negative // 2, nonzero // 2, finite
 
 
 def check(problem: CanonicalProblem) -> bool | str:
@@ -278,11 +299,13 @@ def check(problem: CanonicalProblem) -> bool | str:
         return "min-cut needs explicit couplings, not a LinearOperator"
     if not np.all(np.isfinite(problem.b)):
         return "the fields hold non-finite values"
-    bad, total, finite = negative_couplings(problem)
+    bad, total, finite = negative_couplings(problem, stop_early=True)
     if not finite:
         return "the couplings hold non-finite values"
     if bad:
-        return (f"couplings are not all ferromagnetic: {bad} of {total} are negative "
+        whole = problem.kind == "sparse" or problem.n * problem.n <= BLOCK_ENTRIES  # read in one block
+        counted = "" if whole else " in the rows read before the check stopped"
+        return (f"couplings are not all ferromagnetic: {bad} of {total} are negative{counted} "
                 "(min-cut needs Ising J_ij ≥ 0, i.e. QUBO off-diagonal ≤ 0)")
     return True
 
