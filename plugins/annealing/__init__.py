@@ -220,7 +220,7 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     time left, so none is stopped while still hot.
     """
     plan = make_plan(problem, ctx)
-    couplings = working_couplings(problem, ctx.option("precision", OPTIONS["precision"]))
+    couplings = working_couplings(problem, ctx.option("precision", OPTIONS["precision"]), "anneal", ctx.remaining())
     grow = ctx.time_limit is not None and ctx.option("sweeps", None) is None
     target, per_sweep = plan.sweeps, None
     if grow:

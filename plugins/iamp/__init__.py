@@ -146,10 +146,13 @@ def working_precision(problem: CanonicalProblem, ctx: SolveContext) -> tuple[tup
     dtype = np.float64 if precision == "float64" else np.float32
     if problem.kind == "operator" or isinstance(problem.K, np.memmap):
         return (problem.K,), dtype  # a memmap is streamed in row blocks, never copied
-    return working_couplings(problem, precision, "iamp"), dtype
+    couplings = working_couplings(problem, precision, "iamp", ctx.remaining())
+    if precision == "auto" and couplings[0] is problem.K and problem.K.dtype == np.float64:
+        dtype = np.float64  # no float32 copy (a short limit): products in float64 need no cast per block
+    return couplings, dtype
 
 
-SAMPLED_STATS_ENTRIES = 1 << 26  # a dense K with more entries takes sampled moments under a time limit
+SAMPLED_STATS_ENTRIES = 1 << 24  # a dense K with more entries takes sampled moments under a time limit
 
 
 def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext,
@@ -241,7 +244,7 @@ def _one_run(problem: CanonicalProblem, A: Matvec, n_eff: int, drive: Drive, ctx
 def _edges(A: Matvec, n_eff: int, ctx: SolveContext) -> tuple[float, float] | None:
     if not ctx.option("spectrum_check", True):
         return None
-    return diag.lanczos_extremes(A, n_eff, ctx.rng, _int_option(ctx, "lanczos_steps", 2, 500))
+    return diag.lanczos_extremes(A, n_eff, ctx.rng, _int_option(ctx, "lanczos_steps", 2, 500), ctx.should_stop)
 
 
 def _polish_runs(problem: CanonicalProblem, runs: list[dict], couplings: tuple[Any, ...], stats: CouplingStats,
@@ -305,6 +308,9 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
         return Solution(sigma=sigma, info={"eligible": False})
     A = normalised(raw, stats.mean, stats.std)
     edges = _edges(A, n_eff, ctx)
+    if ctx.should_stop():  # Ctrl-C (or the clock) before any state: all spins up, said by the status
+        return Solution(sigma=np.ones(problem.n, dtype=np.int8), status="time-limit" if ctx.expired() else None,
+                        info={"stopped": "before the first message-passing step"})
     notes, eligible = diag.findings(stats, edges, mode == "ghost", stat_notes)
     for note in notes:
         ctx.warn(note)

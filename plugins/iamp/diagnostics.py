@@ -65,12 +65,14 @@ def operator_stats(matvec: Callable[[np.ndarray], np.ndarray], n: int, rng: np.r
 
 
 def lanczos_extremes(matvec: Callable[[np.ndarray], np.ndarray], n: int, rng: np.random.Generator,
-                     steps: int) -> tuple[float, float]:
-    """(λ_min, λ_max) Ritz estimates after ``steps`` Lanczos steps (the core's routine).
+                     steps: int, should_stop: Callable[[], bool] | None = None) -> tuple[float, float]:
+    """(λ_min, λ_max) Ritz estimates after ``steps`` Lanczos steps (the core's routine; ``should_stop``
+    ends it early, with fewer steps' estimates).
 
     Ritz values lie inside the spectrum, so an estimate beyond 2 + margin proves an outlier.
     """
-    ritz = lanczos_ritz(matvec, n, steps=max(2, steps), seed=int(rng.integers(0, 2**31 - 1)))
+    ritz = lanczos_ritz(matvec, n, steps=max(2, steps), seed=int(rng.integers(0, 2**31 - 1)),
+                        should_stop=should_stop)
     return float(ritz[-1]), float(ritz[0])
 
 

@@ -99,6 +99,8 @@ def top_level(x: np.ndarray, m: float, d: float) -> tuple[np.ndarray, np.ndarray
     Φ = m⁻¹ log(e^{mx}N(α) + e^{−mx}N(β)) + md/2, α = (x + md)/√d, β = (−x + md)/√d;
     m = 0 gives the heat-equation limit E|x + √d Z|.
     """
+    if d <= 0.0:  # time 1 itself (an optimiser may push the last breakpoint to q = 1): Φ(1, x) = |x|
+        return np.abs(x), np.sign(x), np.zeros_like(x)
     sd = math.sqrt(d)
     if m < 1e-12:
         a = x / sd

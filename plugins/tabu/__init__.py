@@ -359,7 +359,7 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     """
     opts = read_options(problem, ctx)
     mode = start_mode(problem, ctx.option("start", OPTIONS["start"]))
-    couplings = working_couplings(problem, ctx.option("precision", OPTIONS["precision"]), "tabu")
+    couplings = working_couplings(problem, ctx.option("precision", OPTIONS["precision"]), "tabu", ctx.remaining())
     # Gains below this count as zero, so float noise in the running value never reads as a new best.
     tol = 1e-12 * max(problem.n, 1) * coupling_scale(problem)
     moves = kicks = runs = balls = 0

@@ -110,3 +110,13 @@ def test_table_rows_and_format():
     text = parisi.format_parisi_table(rows)
     assert "full" in text and "0.79788" in text
     assert abs(rows[-1]["value"] - 0.7631667) < 5e-5  # P* (Crisanti & Rizzo 2002) from memory; coarse levels here
+
+
+def test_top_level_at_time_one_is_the_absolute_value() -> None:
+    """Φ(1, x) = |x| (the zero-temperature terminal condition, common practice): an optimiser that
+    puts the last breakpoint at q = 1 leaves a top level of length 0, which must not fail."""
+    from spinward.plugins.iamp.parisi import top_level
+
+    x = np.linspace(-3, 3, 13)
+    phi, dphi, ddphi = top_level(x, 0.7, 0.0)
+    assert np.array_equal(phi, np.abs(x)) and np.array_equal(dphi, np.sign(x)) and not ddphi.any()
