@@ -21,8 +21,8 @@ from .context import SolveContext
 from .decompose import connected_components, subproblem
 from .dispatch import rank
 from .errors import InternalError, SolverUnsuitableError, SpinwardError, SpinwardWarning
-from .plan import (LAST_RESORT_SECONDS, MAX_PARTS, MIN_STEP_SECONDS, SMALL_PART, WHOLE_SHARE, Part, Step,
-                   free_bound_allowance, improver_share, part_share, reserve_seconds)
+from .plan import (LAST_RESORT_SECONDS, MAX_PARTS, MIN_STEP_SECONDS, PRIMARY_PATIENCE, SMALL_PART, WHOLE_SHARE,
+                   Part, Step, free_bound_allowance, improver_share, part_share, reserve_seconds)
 from .profile import Profile, profile_of
 from .registry import Bound, BoundSpec, Registry, Solution, SolverSpec
 
@@ -186,6 +186,10 @@ class Runner:
             # that take a third of a second each on a big memory-mapped K come out of its budget
             budget -= min(CLOSE_READS * read, budget / 2)
         options = dict(part.options.get(spec.name, {}))
+        if kind == "primary" and part.improver is not None and "patience" in spec.options \
+                and "patience" not in options:
+            # a primary that stops improving hands the rest of its time to the improver
+            options["patience"] = PRIMARY_PATIENCE
         if initial is not None and spec.capabilities.warm_start:
             options["initial"] = np.asarray(initial, dtype=np.int8)
         child = self.ctx.child(budget, options=spec.read_options(options), embed=embed)

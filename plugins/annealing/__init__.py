@@ -65,6 +65,9 @@ class AnnealOptions(SolverOptions):
                                                                     "the coupling scale (default (0.2, 8))")
     rule: Literal["metropolis", "heat-bath"] = Field("metropolis", description="acceptance rule of a flip")
     precision: Literal["auto", "float32", "float64"] = Field("auto", description="working copy of the couplings")
+    patience: int | None = Field(None, ge=1, le=10**6, description="with a time limit, end after this many schedules "
+                                                                   "in a row found no better state (default: run "
+                                                                   "until the clock stops)")
 
 
 OPTIONS: dict[str, Any] = {name: field.default for name, field in AnnealOptions.model_fields.items()}
@@ -225,7 +228,8 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
     target, per_sweep = plan.sweeps, None
     if grow:
         plan = plan.resized(PROBE_SWEEPS)
-    done, sweeps_run, finished, longest, best = 0, 0, True, 0, -math.inf
+    patience = ctx.option("patience", None) if grow else None
+    done, sweeps_run, finished, longest, best, stale, settled = 0, 0, True, 0, -math.inf, 0, False
     while done < plan.restarts:
         annealer = Annealer(problem, couplings, int(ctx.rng.integers(1, 2**63 - 1)))
         annealer.reset(random_spins(problem.n, ctx.rng))
@@ -236,7 +240,11 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
         sigma, value = local_search(problem, annealer.best_sigma)
         ctx.offer(sigma, value)
         improved, best = value > best, max(best, value)
+        stale = 0 if improved else stale + 1
         if ctx.should_stop():
+            break
+        if patience is not None and stale >= patience:
+            settled = True  # an end of its own: the time left goes to whatever follows
             break
         if grow:
             per_sweep, clean_up = (t1 - t0) / plan.sweeps, time.perf_counter() - t1
@@ -247,7 +255,8 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
                 break
             plan = plan.resized(length)
     assert ctx.best_sigma is not None
-    clock = ctx.time_limit is not None and (done < plan.restarts or not finished)  # the clock, not the work, ended it
+    # the clock, not the work (or the patience), ended it
+    clock = ctx.time_limit is not None and not settled and (done < plan.restarts or not finished)
     return Solution(sigma=ctx.best_sigma, status="time-limit" if clock else None,
                     info={"restarts": done, "sweeps": sweeps_run, "last_sweeps": plan.sweeps,
                           "schedule_finished": finished, "beta_span": (float(plan.betas[0]), float(plan.betas[-1]))})

@@ -391,11 +391,22 @@ def run(problem: CanonicalProblem, ctx: SolveContext) -> Solution:
 
 def fit(problem: Any) -> float:
     """Above annealing on sparse K of mean degree at most ``BALL_ANNEAL_MAX_DEGREE``, where
-    annealed ball kicks beat single-flip annealing (see :func:`ball_anneal`); elsewhere just
-    below it, so "auto" anneals first and runs tabu as the warm-started improver."""
+    annealed ball kicks beat single-flip annealing (see :func:`ball_anneal`), and on dense K of
+    at most ``SMALL_DENSE`` spins; elsewhere just below it, so "auto" anneals first and runs
+    tabu as the warm-started improver.
+
+    Dense and small, measured at 0.5 s each, 2 instances per row: tabu ≥ anneal on every one,
+    and far ahead on penalised QUBOs (a 40- and a 120-asset portfolio with a budget penalty:
+    −15.15 / −45.05 against −13.34 / −35.35); SK n = 100, 300, 800 tie or favour tabu.
+    """
     if getattr(problem, "kind", None) == "sparse":
         return 2.5 if mean_degree(problem) <= BALL_ANNEAL_MAX_DEGREE else 1.8
+    if getattr(problem, "kind", None) == "dense" and problem.n <= SMALL_DENSE:
+        return 2.2
     return 1.5
+
+
+SMALL_DENSE = 1000
 
 
 def cost(problem: CanonicalProblem) -> float:

@@ -91,3 +91,38 @@ def test_min_cut_check_counts_negative_couplings_as_numpy_does(n: int) -> None:
     verdict = mincut.check(p)
     assert isinstance(verdict, str) and "not all ferromagnetic" in verdict
     assert mincut.check(CanonicalProblem(np.abs(K), np.zeros(n))) is True
+
+
+def test_auto_gives_a_patience_to_a_primary_followed_by_an_improver() -> None:
+    """The runner passes PRIMARY_PATIENCE to a primary that declares the option when an improver follows."""
+    from spinward.core import Capabilities
+    from spinward.core.plan import PRIMARY_PATIENCE
+
+    seen: dict[str, object] = {}
+
+    def primary(problem, ctx):  # noqa: ANN001, ANN202
+        seen["patience"] = ctx.option("patience", None)
+        return Solution(sigma=np.ones(problem.n, dtype=np.int8))
+
+    def improver(problem, ctx):  # noqa: ANN001, ANN202
+        seen["improver_start"] = ctx.option("initial", None) is not None
+        return Solution(sigma=np.asarray(ctx.option("initial", None), dtype=np.int8))
+
+    reg = Registry()
+    reg.add_solver(SolverSpec(name="first", run=primary, options={"patience": None}, fit=lambda p: 2.0))
+    reg.add_solver(SolverSpec(name="second", run=improver, fit=lambda p: 1.0, options={"initial": None},
+                              capabilities=Capabilities(warm_start=True)))
+    J = np.triu(np.random.default_rng(5).normal(size=(30, 30)), 1)
+    spinward.solve(spinward.Ising(J), registry=reg, time_limit=2.0, seed=0, bound=False)
+    assert seen == {"patience": PRIMARY_PATIENCE, "improver_start": True}
+
+
+def test_annealing_with_patience_ends_on_its_own_before_the_limit() -> None:
+    """A 10-spin problem settles within a few schedules: with patience the run ends by itself
+    (status feasible) long before the 20 s limit; the state equals the brute-force optimum."""
+    rng = np.random.default_rng(6)
+    J = np.triu(rng.normal(size=(10, 10)), 1)
+    r = spinward.solve(spinward.Ising(J), method="anneal", time_limit=20.0, seed=0, patience=3, bound=False)
+    assert r.status == "feasible" and r.wall_time < 20.0
+    best = min(-(np.array(s) @ J @ np.array(s)) for s in itertools.product((-1, 1), repeat=10))
+    assert r.objective == pytest.approx(best)
