@@ -79,7 +79,8 @@ class IampOptions(SolverOptions):
     block_visit_sweeps: int = Field(1, ge=1, le=10**6, description="couplings in row blocks on a cluster: polish "
                                                                    "sweeps per visit of a block (1: the in-memory walk)")
     fields: Literal["parisi", "ghost"] = Field("parisi", description="fields through the Parisi formula with their "
-                                                                      "law (two-phase IAMP) or by a ghost spin")
+                                                                      "law (two-phase IAMP) or by a ghost spin "
+                                                                      "(used below 50 spins, or with under 20 s left)")
 
 
 OPTIONS: dict[str, Any] = {name: field.default for name, field in IampOptions.model_fields.items()}
@@ -262,11 +263,25 @@ def _polish_runs(problem: CanonicalProblem, runs: list[dict], couplings: tuple[A
 
 
 def _field_mode(problem: CanonicalProblem, ctx: SolveContext) -> str:
-    """"none" without fields, else the ``fields`` option ("parisi" or "ghost")."""
+    """"none" without fields, else the ``fields`` option ("parisi" or "ghost").
+
+    "parisi" falls back to the ghost spin below ``PARISI_FIELDS_MIN_N`` spins (the law of a
+    handful of fields says nothing, and each new law costs a Parisi solve of a second or more),
+    and under a time limit with less than ``PARISI_FIELDS_MIN_SECONDS`` left (that solve does
+    not watch the clock).
+    """
     mode = ctx.option("fields", OPTIONS["fields"])
     if mode not in FIELD_MODES:
         raise InputError(f"option 'fields' must be 'parisi' or 'ghost', got {mode!r}")
-    return str(mode) if problem.has_fields else "none"
+    if not problem.has_fields:
+        return "none"
+    if mode == "parisi" and (problem.n < PARISI_FIELDS_MIN_N or ctx.remaining() < PARISI_FIELDS_MIN_SECONDS):
+        return "ghost"
+    return str(mode)
+
+
+PARISI_FIELDS_MIN_N = 50
+PARISI_FIELDS_MIN_SECONDS = 20.0
 
 
 def _drive(problem: CanonicalProblem, A: Matvec, stats: CouplingStats, mode: str, steps: int,

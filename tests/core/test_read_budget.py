@@ -126,3 +126,11 @@ def test_annealing_with_patience_ends_on_its_own_before_the_limit() -> None:
     assert r.status == "feasible" and r.wall_time < 20.0
     best = min(-(np.array(s) @ J @ np.array(s)) for s in itertools.product((-1, 1), repeat=10))
     assert r.objective == pytest.approx(best)
+
+
+def test_iamp_takes_small_field_problems_through_the_ghost_spin() -> None:
+    """Below 50 spins the fields' law says nothing and its Parisi solve would cost seconds: a ghost spin."""
+    rng = np.random.default_rng(7)
+    J = np.triu(rng.normal(size=(12, 12)), 1)
+    r = spinward.solve(spinward.Ising(J, rng.normal(size=12)), method="iamp", seed=0, bound=False)
+    assert r.info["fields"]["mode"] == "ghost"
