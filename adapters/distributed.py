@@ -209,7 +209,7 @@ class DaskCouplings:
     def power_sums(self) -> tuple[float, float, float, float, int, float]:
         s1, s2, s3, s4, nonzero, big, _ = self._block_sums()
         t = self.scale
-        return s1 / t, s2 / t**2, s3 / t**3, s4 / t**4, nonzero, big / abs(t)
+        return s1 / t, s2 / t**2, s3 / t**3, s4 / t**4, int(nonzero), big / abs(t)
 
     def max_abs(self) -> float:
         return self._block_sums()[5] / abs(self.scale)

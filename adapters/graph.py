@@ -73,7 +73,8 @@ class MaxCut(CachedForm):
 
     def _graph_edges(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, int]:
         index = {node: k for k, node in enumerate(self._labels)}
-        rows, cols, ws, loops, others = [], [], [], 0, set()
+        rows, cols, ws, loops = [], [], [], 0
+        others: set[Any] = set()
         carried = False
         for u, v, data in self._graph.edges(data=True):
             if self.weight in data:

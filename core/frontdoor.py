@@ -206,7 +206,7 @@ class _Solve:
         if self.parts and all(p.sigma is not None for p in self.parts):
             work = np.ones(self.work.n, dtype=np.int8)
             for p in self.parts:
-                work[p.idx] = p.sigma  # type: ignore[index]
+                work[p.idx] = p.sigma  # type: ignore[index,assignment]
             sigma = work if self.fixing is None else self.fixing.expand(work, 0.0)[0]
         elif self.work.n == 0:
             sigma = np.ones(n, dtype=np.int8) if self.fixing is None else self.fixing.expand(

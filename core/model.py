@@ -78,13 +78,15 @@ class ProblemForm(ABC):
                                  f"{self.form} problem")
             values = np.array([state[label] for label in labels], dtype=object)
         else:
+            given: np.ndarray | None
             try:
-                values = np.asarray(state, dtype=object).reshape(-1) if not np.isscalar(state) else None
+                given = np.asarray(state, dtype=object).reshape(-1) if not np.isscalar(state) else None
             except (TypeError, ValueError):
-                values = None
-            if values is None or np.asarray(state, dtype=object).ndim != 1 or values.size != len(labels):
+                given = None
+            if given is None or np.asarray(state, dtype=object).ndim != 1 or given.size != len(labels):
                 raise InputError(f"{what}: expected {len(labels)} values (one per variable, in label order) or a "
                                  f"dict keyed by label, got {state!r:.80}")
+            values = given
         return self._encode_checked(values, what)
 
     def _encode_checked(self, values: np.ndarray, what: str) -> np.ndarray:

@@ -124,6 +124,7 @@ class SolverSpec:
     cost: CostFn | None = None
     first_reads: float = 3.0
     first_seconds: Callable[[CanonicalProblem, float], float] | None = None
+    options_model: Any = field(init=False, repr=False, compare=False, default=None)  # set from ``options``
 
     def __post_init__(self) -> None:
         if not isinstance(self.name, str) or not _NAME.fullmatch(self.name):

@@ -136,7 +136,7 @@ class Runner:
                 part.info = dict(sol.info)
                 if sol.bound is not None or sol.exact:
                     value = part.problem.value(sol.sigma)
-                    part.bound = Bound(value if sol.exact else float(sol.bound), True,
+                    part.bound = Bound(value if sol.exact or sol.bound is None else float(sol.bound), True,
                                        "solver (proved optimal)" if sol.exact else "solver")
                 break
             if self.ctx.interrupted:

@@ -93,7 +93,7 @@ def _bound_line(parts: list[Part], registry: Registry, time_limit: float | None)
 
 
 def _advice_lines(form: Any, parts: list[Part]) -> list[str]:
-    lines = []
+    lines: list[str] = []
     if len(parts) != 1:
         return lines
     part = parts[0]

@@ -79,9 +79,9 @@ def _qubo(doc: dict[str, Any]) -> QUBO:
                                 "'terms' (a list of [i, j, q])")
     if "matrix" in doc:
         rows = _array(doc["matrix"], "matrix")
-        for i, row in enumerate(rows):
-            if len(_array(row, f"matrix[{i}]", "a row (an array of numbers)")) != len(rows):
-                raise DocumentError(f"matrix[{i}]", f"has {len(row)} entries, but a QUBO matrix is square "
+        for r, row in enumerate(rows):
+            if len(_array(row, f"matrix[{r}]", "a row (an array of numbers)")) != len(rows):
+                raise DocumentError(f"matrix[{r}]", f"has {len(row)} entries, but a QUBO matrix is square "
                                                     f"({len(rows)} rows)")
         matrix = [[_number(v, f"matrix[{i}][{j}]") for j, v in enumerate(row)] for i, row in enumerate(rows)]
         labels = None

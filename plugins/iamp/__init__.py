@@ -170,8 +170,9 @@ def coupling_stats(problem: CanonicalProblem, raw: Matvec, ctx: SolveContext,
     elif ctx.time_limit is not None and problem.kind == "dense" and problem.n ** 2 > SAMPLED_STATS_ENTRIES:
         # under a time limit, a big dense K (a memmap, say) is not read whole for its moments: the
         # core's row sample (the profile's) gives m and s to a few parts in 10⁴
-        stats = core_coupling_stats(problem)
-        assert stats is not None
+        sampled = core_coupling_stats(problem)
+        assert sampled is not None
+        stats = sampled
         if not stats.exact:
             notes.append(f"the coupling moments come from a sample of rows (a time limit on a {problem.n}×"
                          f"{problem.n} K)")
