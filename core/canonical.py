@@ -20,7 +20,9 @@ from .errors import InputError
 
 Sense = Literal["min", "max"]
 ROW_BLOCK = 512  # rows per block when streaming a float32 or memory-mapped K
-VALUE_MEMO_ENTRIES = 1 << 24  # a dense K with more entries remembers recent states' values
+#: a dense K with more entries is dear to read (a tenth of a second or more): it remembers recent
+#: states' values, and after Ctrl-C the caller's objective is not read from the input again
+DEAR_READ_ENTRIES = 1 << 24
 VALUE_MEMO_SIZE = 16
 MATVEC_BLOCK_ENTRIES = 1 << 19  # entries per block of dense_matvec (a 4 MiB float64 temporary)
 
@@ -123,6 +125,11 @@ class CanonicalProblem:
         return "operator" if is_operator(self.K) else "dense"
 
     @property
+    def dear_to_read(self) -> bool:
+        """A dense K of more than ``DEAR_READ_ENTRIES`` entries."""
+        return self.kind == "dense" and self.n * self.n > DEAR_READ_ENTRIES
+
+    @property
     def has_fields(self) -> bool:
         return bool(np.any(self.b != 0))
 
@@ -165,7 +172,7 @@ class CanonicalProblem:
         """
         s = np.asarray(sigma, dtype=np.float64)
         key = None
-        if self.kind == "dense" and self.n * self.n > VALUE_MEMO_ENTRIES and np.all(np.abs(s) == 1):
+        if self.dear_to_read and np.all(np.abs(s) == 1):
             key = np.packbits(s > 0).tobytes()
             memo = self.meta.setdefault("_values", {})
             if key in memo:

@@ -31,7 +31,6 @@ from .run import Runner
 
 #: tolerance when comparing the caller's objective with the canonical one (relative to the coupling mass)
 CONSISTENCY_RTOL = 1e-9
-QUICK_STOP_ENTRIES = 1 << 24  # a dense K with more entries is read once less after Ctrl-C
 
 
 class CommonOptions(SolverOptions):
@@ -175,6 +174,7 @@ class _Solve:
         profile = profile_of(work, budget=budget)
         runner.steps.append(Step("profile", "profile", seconds=time.perf_counter() - t0, outcome="ended",
                                  budget=budget))
+        runner.use_profile(profile)
         self.parts = runner.parts(self.spec, profile, self.common.candidates)
         for part in self.parts:
             part.options = dict(self.per_solver)
@@ -263,7 +263,7 @@ def build_result(state: _Solve, sigma: np.ndarray, notes: list[str], steps: list
     values = form.decode(sigma)
     canonical_value = problem.value(sigma)
     report = form.constraint_report(values)
-    if root.interrupted and report is None and problem.kind == "dense" and problem.n ** 2 > QUICK_STOP_ENTRIES:
+    if root.interrupted and report is None and problem.dear_to_read:
         # after Ctrl-C on a big dense K, one read less: the objective is the canonical value mapped
         # back (exact: a power-of-two scale and a shift), not recomputed from the input as well
         objective = problem.to_objective(canonical_value)

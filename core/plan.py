@@ -46,6 +46,7 @@ LAST_RESORT_SECONDS = 0.03
 RESERVE_PER_ENTRY = 4e-9
 RESERVE_PER_SPIN = 6e-7
 RESERVE_FLOOR = 0.01
+CLOSE_READS = 2.0  # reads of K a solver makes after the clock stops it, kept out of its budget
 #: a primary that offers a ``patience`` option gets this value when an improver follows: after so many
 #: runs in a row without a better state it ends, and the improver works from its state in the time left
 PRIMARY_PATIENCE = 8

@@ -21,8 +21,8 @@ from .context import SolveContext
 from .decompose import connected_components, subproblem
 from .dispatch import rank
 from .errors import InternalError, SolverUnsuitableError, SpinwardError, SpinwardWarning
-from .plan import (LAST_RESORT_SECONDS, MAX_PARTS, MIN_STEP_SECONDS, PRIMARY_PATIENCE, SMALL_PART, WHOLE_SHARE,
-                   Part, Step, free_bound_allowance, improver_share, part_share, reserve_seconds)
+from .plan import (CLOSE_READS, LAST_RESORT_SECONDS, MAX_PARTS, MIN_STEP_SECONDS, PRIMARY_PATIENCE, SMALL_PART,
+                   WHOLE_SHARE, Part, Step, free_bound_allowance, improver_share, part_share, reserve_seconds)
 from .profile import Profile, profile_of
 from .registry import Bound, BoundSpec, Registry, Solution, SolverSpec
 
@@ -56,11 +56,6 @@ class Runner:
     def parts(self, method: SolverSpec | None, profile: Profile, only: tuple[str, ...] | None) -> list[Part]:
         """The parts and their candidates: one part for a forced method, else the components."""
         problem = self.problem
-        self.read_seconds = profile.read_seconds
-        if problem.kind == "dense":  # the mapping back reads K once for the caller's objective: as timed here
-            self.reserve = reserve_seconds(problem, profile.read_seconds)
-        if self.bound and self.limit is not None:  # no provider fits: its share goes to the solvers
-            self.bounds_fit = self._some_bound_fits(self.bound_share * self.limit)
         if method is not None:
             verdict = method.can_run(problem)
             if verdict is not True:
@@ -81,6 +76,14 @@ class Runner:
             improver = None if ranking.primary.capabilities.warm_start else ranking.improver
             out.append(Part(k, idx, sub, list(ranking.ranked), improver, ranking))
         return out
+
+    def use_profile(self, profile: Profile) -> None:
+        """Size the clock by what the profile measured: one read of K, and whether any bound fits."""
+        self.read_seconds = profile.read_seconds
+        if self.problem.kind == "dense":  # the mapping back reads K once for the caller's objective: as timed here
+            self.reserve = reserve_seconds(self.problem, profile.read_seconds)
+        if self.bound and self.limit is not None:  # no provider fits: its share goes to the solvers
+            self.bounds_fit = self._some_bound_fits(self.bound_share * self.limit)
 
     def _some_bound_fits(self, seconds: float) -> bool:
         for provider in self.registry.bounds():
@@ -300,7 +303,6 @@ class Runner:
 
 
 _WARMED: set[tuple[Any, ...]] = set()
-CLOSE_READS = 2.0  # reads of K a solver makes after the clock stops it, kept out of its budget
 
 
 def _tiny_like(problem: CanonicalProblem) -> CanonicalProblem:

@@ -36,6 +36,7 @@ from pydantic import Field
 
 from spinward.core import Capabilities, CanonicalProblem, InputError, Solution, SolveContext, SolverSpec, hookimpl
 from spinward.core.options import SolverOptions
+from spinward.core.statistics import FULL_PASS_ENTRIES
 
 from ..common.couplings import working_couplings
 from ..common.flips import csr_parts, local_search, random_spins
@@ -89,9 +90,6 @@ class Plan:
         return Plan(sweeps, self.restarts, betas, self.rule, self.schedule)
 
 
-FULL_PASS_ENTRIES = 1 << 26  # a dense K with more entries takes its scale from the profile's moments
-
-
 def coupling_scale(problem: CanonicalProblem) -> float:
     """RMS over spins of √(Σⱼ Kᵢⱼ² + bᵢ²): the typical |local field| at a random state."""
     stats = problem.meta.get("_stats_exact") or problem.meta.get("_stats")
@@ -99,8 +97,8 @@ def coupling_scale(problem: CanonicalProblem) -> float:
         data = csr_parts(problem)[2]
         total = float(data @ data)
     elif stats is not None and problem.n ** 2 > FULL_PASS_ENTRIES:
-        # a big dense K (a memmap, say) is not read again for a scale: the profile's moments,
-        # from a row sample under a time limit, give Σ Kᵢⱼ² = n(n−1)(s² + m²)
+        # a K beyond one full statistics pass (a memmap, say) is not read again for a scale: the
+        # profile's moments, from a row sample under a time limit, give Σ Kᵢⱼ² = n(n−1)(s² + m²)
         total = problem.n * (problem.n - 1) * (stats.std ** 2 + stats.mean ** 2)
     else:
         # Row by row, so a float32 or memory-mapped K is never copied whole.

@@ -53,8 +53,8 @@ def test_remembered_values_equal_fresh_ones_brute_force() -> None:
     K = np.triu(K, 1) + np.triu(K, 1).T
     b = rng.normal(size=n)
     p = CanonicalProblem(K, b, 0.25)
-    old = canonical.VALUE_MEMO_ENTRIES
-    canonical.VALUE_MEMO_ENTRIES = 1  # every dense K counts as big
+    old = canonical.DEAR_READ_ENTRIES
+    canonical.DEAR_READ_ENTRIES = 1  # every dense K counts as big
     try:
         for bits in itertools.product((-1, 1), repeat=n):
             s = np.array(bits, dtype=np.int8)
@@ -65,7 +65,7 @@ def test_remembered_values_equal_fresh_ones_brute_force() -> None:
         assert p.value(half) == pytest.approx(0.5 * half @ K @ half + b @ half + 0.25)
         assert len(p.meta["_values"]) <= canonical.VALUE_MEMO_SIZE
     finally:
-        canonical.VALUE_MEMO_ENTRIES = old
+        canonical.DEAR_READ_ENTRIES = old
 
 
 def test_values_from_fields_match_a_fresh_read() -> None:
